@@ -1,0 +1,1 @@
+"""The headless core: everything that computes. Imports no Qt (a test enforces it)."""
