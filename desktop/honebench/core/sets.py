@@ -1,0 +1,354 @@
+"""Question sets: a labelled data file whose rows are items.
+
+A column mapping says which columns are the input fields, the expected answer, and
+optionally the item id and the split. Loading checks the whole file and reports every
+problem at once in one SetError. Items are split into tuning items and held-out items,
+either from a split column or by a seeded draw that does not depend on row order.
+Nothing here writes anything.
+"""
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import re
+from dataclasses import dataclass
+
+import pandas as pd
+
+from .set_reading import Problem, SetError, quote, read_table
+
+__all__ = ["ColumnMapping", "Item", "QuestionSet", "SetError", "Problem", "read_table",
+           "guess_mapping", "find_problems", "load_set", "preview", "split_items", "split_name"]
+
+TUNING, HELD_OUT = "tuning", "held_out"
+_SPLIT_WORDS = {
+    TUNING: ("tuning", "tune", "train", "training", "dev", "development"),
+    HELD_OUT: ("held_out", "heldout", "holdout", "hold_out", "test", "testing"),
+}
+_SPLIT_HINT = "Write tuning or held-out (train/test, tune/holdout and dev/test also work)."
+
+_EXPECTED_NAMES = ("expected", "expected_answer", "expected_output", "answer", "gold",
+                   "gold_answer", "gold_label", "label", "target", "output", "correct",
+                   "correct_answer", "reference_answer", "ground_truth", "truth", "category",
+                   "class", "intent")
+_EXPECTED_WORDS = ("answer", "expected", "label", "gold", "target")
+_ID_NAMES = ("id", "item_id", "itemid", "item_no", "qid", "question_id", "uid", "uuid",
+             "example_id", "row_id", "record_id")
+_SPLIT_COLUMN_NAMES = ("split", "partition", "fold", "subset", "data_split", "split_name")
+_INPUT_NAMES = ("question", "input", "message", "text", "prompt", "query", "request",
+                "context", "passage", "document", "instruction", "sentence", "utterance",
+                "email", "ticket", "content", "body")
+# Never guessed as an input: they tend to give the answer away or say nothing about it.
+_NOT_INPUT_NAMES = ("explanation", "rationale", "reasoning", "solution", "notes", "note",
+                    "comment", "comments", "source", "author", "annotator", "date",
+                    "created", "created_at", "updated_at", "timestamp", "reference")
+
+
+@dataclass(frozen=True)
+class ColumnMapping:
+    """Which columns are the input fields, the expected answer, the id and the split."""
+    inputs: tuple[str, ...]
+    expected: str
+    id: str | None = None
+    split: str | None = None
+
+    def __post_init__(self):
+        inputs = (self.inputs,) if isinstance(self.inputs, str) else tuple(self.inputs)
+        object.__setattr__(self, "inputs", inputs)
+
+    def columns(self) -> list[tuple[str, str]]:
+        """(role, column) for every mapped column."""
+        roles = [("an input field", c) for c in self.inputs] + [("the expected answer", self.expected)]
+        roles += [(r, c) for r, c in (("the id", self.id), ("the split", self.split)) if c]
+        return roles
+
+    def as_dict(self) -> dict:
+        return {"inputs": list(self.inputs), "expected": self.expected, "id": self.id,
+                "split": self.split}
+
+    @classmethod
+    def from_dict(cls, d: dict) -> "ColumnMapping":
+        inputs, expected = d.get("inputs"), d.get("expected")
+        if not isinstance(expected, str) or not isinstance(inputs, (list, tuple)) \
+                or not all(isinstance(c, str) for c in inputs):
+            raise ValueError(f"a column mapping needs 'inputs' (a list of column names) and "
+                             f"'expected' (a column name); got {d!r}")
+        optional = {k: d.get(k) for k in ("id", "split")}
+        for key, value in optional.items():
+            if value is not None and not isinstance(value, str):
+                raise ValueError(f"column mapping '{key}' must be a column name or null, not {value!r}")
+        return cls(tuple(inputs), expected, **optional)
+
+
+@dataclass(frozen=True)
+class Item:
+    """One row of a question set."""
+    id: str
+    fields: dict[str, str]
+    expected: str
+    split: str
+    row: int
+
+
+@dataclass(frozen=True)
+class QuestionSet:
+    """A loaded, checked question set. ``content_hash`` covers the ids, input field names,
+    input texts and expected answers (and the split column's values when one is mapped),
+    not the file format, column order or row order."""
+    name: str
+    path: str
+    mapping: ColumnMapping
+    items: tuple[Item, ...]
+    content_hash: str
+    split_seed: int
+    held_out_fraction: float
+
+    def tuning(self) -> tuple[Item, ...]:
+        return tuple(i for i in self.items if i.split == TUNING)
+
+    def held_out(self) -> tuple[Item, ...]:
+        return tuple(i for i in self.items if i.split == HELD_OUT)
+
+    def labels(self) -> list[str]:
+        """The distinct expected answers, sorted."""
+        return sorted({i.expected for i in self.items})
+
+    def __len__(self) -> int:
+        return len(self.items)
+
+
+def split_name(value: str) -> str | None:
+    """"tuning" or "held_out" for a split column's value, None if it is not a split name."""
+    key = re.sub(r"[\s\-]+", "_", str(value).strip().lower())
+    for split, words in _SPLIT_WORDS.items():
+        if key in words:
+            return split
+    return None
+
+
+def split_items(ids, seed: int, held_out_fraction: float) -> dict[str, str]:
+    """Seeded split: round(n * fraction) ids held out (at least 1 when n >= 2 and the
+    fraction is above 0, at most n - 1 when it is below 1), the same whatever the order."""
+    ids = [str(i) for i in ids]
+    if len(set(ids)) != len(ids):
+        raise ValueError("split_items needs distinct ids")
+    if not 0.0 <= held_out_fraction <= 1.0:
+        raise ValueError(f"held_out_fraction must be between 0 and 1, not {held_out_fraction}")
+    n = len(ids)
+    count = round(n * held_out_fraction)
+    if n >= 2 and held_out_fraction > 0:
+        count = max(count, 1)
+    if n >= 2 and held_out_fraction < 1:
+        count = min(count, n - 1)
+    order = sorted(ids, key=lambda i: (hashlib.sha256(f"{seed}:{i}".encode()).hexdigest(), i))
+    held = set(order[:count])
+    return {i: HELD_OUT if i in held else TUNING for i in ids}
+
+
+def _key(name: str) -> str:
+    return re.sub(r"[^0-9a-z]+", "_", name.strip().lower()).strip("_")
+
+
+def guess_mapping(columns: list[str]) -> ColumnMapping:
+    """A likely mapping from column names alone. Raises SetError when no column looks like
+    the expected answer or none is left for input."""
+    columns = [str(c) for c in columns]
+    keys = {c: _key(c) for c in columns}
+
+    def first(names: tuple[str, ...], among: list[str]) -> str | None:
+        for name in names:
+            for c in among:
+                if keys[c] == name:
+                    return c
+        return None
+
+    expected = first(_EXPECTED_NAMES, columns) or next(
+        (c for c in columns if set(keys[c].split("_")) & set(_EXPECTED_WORDS)), None)
+    if expected is None:
+        raise SetError("", [Problem(
+            f"No column looks like the expected answer. Columns found: "
+            f"{', '.join(quote(c) for c in columns) or 'none'}. Choose the expected-answer "
+            "column in the column mapping, or name it 'answer'.")])
+    rest = [c for c in columns if c != expected]
+    id_column = first(_ID_NAMES, rest)
+    rest = [c for c in rest if c != id_column]
+    split_column = first(_SPLIT_COLUMN_NAMES, rest)
+    excluded = set(_EXPECTED_NAMES + _ID_NAMES + _SPLIT_COLUMN_NAMES + _NOT_INPUT_NAMES)
+    rest = [c for c in rest if c != split_column and keys[c] not in excluded
+            and not re.fullmatch(r"unnamed_\d+|column_\d+", keys[c])]
+    inputs = [c for c in rest if keys[c] in _INPUT_NAMES] + [c for c in rest if keys[c] not in _INPUT_NAMES]
+    if not inputs:
+        raise SetError("", [Problem(
+            f"No column is left to use as input: {quote(expected)} looks like the expected "
+            f"answer and the others ({', '.join(quote(c) for c in columns if c != expected) or 'none'}) "
+            "look like ids, splits or notes. Choose the input columns in the column mapping.")])
+    return ColumnMapping(tuple(inputs), expected, id_column, split_column)
+
+
+def _rows_text(word: str, rows: list[int], shown: int = 10) -> str:
+    """'Row 5', 'Rows 4, 9 and 12', 'Rows 1, 2, ... and 30 more'."""
+    head = f"{word.capitalize()}{'s' if len(rows) > 1 else ''} "
+    listed = [str(r) for r in rows[:shown]]
+    if len(rows) > shown:
+        return head + ", ".join(listed) + f" and {len(rows) - shown} more"
+    return head + (", ".join(listed[:-1]) + " and " + listed[-1] if len(listed) > 1 else listed[0])
+
+
+def find_problems(table: pd.DataFrame, mapping: ColumnMapping, *,
+                  max_cell_chars: int = 100_000) -> list[Problem]:
+    """Everything that stops ``table`` (from read_table) loading under ``mapping``."""
+    word = table.attrs.get("row_word", "row")
+    problems = _mapping_problems(table, mapping)
+    if problems:
+        return problems
+    rows = table.index.to_numpy()
+
+    def where(mask) -> list[int]:
+        return [int(r) for r in rows[mask.to_numpy()]]
+
+    blank_expected = where(table[mapping.expected].str.strip().eq(""))
+    if blank_expected:
+        those = "those rows" if len(blank_expected) > 1 else "the row"
+        problems.append(Problem(
+            f"{_rows_text(word, blank_expected)}, column {quote(mapping.expected)}: the expected "
+            f"answer is blank or missing. Fill it in, or delete {those}.",
+            blank_expected[0], mapping.expected))
+    no_input = where(table[list(mapping.inputs)].apply(lambda c: c.str.strip().eq("")).all(axis=1))
+    if no_input:
+        names = ", ".join(quote(c) for c in mapping.inputs)
+        problems.append(Problem(
+            f"{_rows_text(word, no_input)}, input column{'s' if len(mapping.inputs) > 1 else ''} "
+            f"{names}: there is no input text, so there is nothing to ask. Fill it in, or "
+            "delete the row.", no_input[0], mapping.inputs[0]))
+    if mapping.id:
+        problems += _id_problems(table, mapping.id, word, where)
+    if mapping.split:
+        problems += _split_problems(table, mapping.split, word)
+    for _, column in mapping.columns():
+        lengths = table[column].str.len()
+        for row, length in lengths[lengths > max_cell_chars].items():
+            problems.append(Problem(
+                f"{word.capitalize()} {row}, column {quote(column)}: the text is {length:,} "
+                f"characters long, over the limit of {max_cell_chars:,}. Shorten it, or keep "
+                "long material out of the question set (a small model could not read it all "
+                "anyway).", int(row), column))
+    return problems
+
+
+def _mapping_problems(table: pd.DataFrame, mapping: ColumnMapping) -> list[Problem]:
+    present = ", ".join(quote(c) for c in table.columns)
+    problems = [Problem(
+        f"The mapping uses column {quote(column)} as {role}, but the file has no such column. "
+        f"Columns found: {present}. Pick one of these in the column mapping.", None, column)
+        for role, column in mapping.columns() if column not in table.columns]
+    if not mapping.inputs:
+        problems.append(Problem("The mapping has no input field. Choose at least one column "
+                                "as input.", None, None))
+    roles: dict[str, str] = {}
+    for role, column in mapping.columns():
+        if column in roles and not (role == "the id" and roles[column] == "an input field"):
+            what = ("twice as an input field" if role == roles[column]
+                    else f"as both {roles[column]} and {role}")
+            problems.append(Problem(
+                f"Column {quote(column)} is mapped {what}. Map each column to one role; the "
+                "expected answer must never be an input.", None, column))
+        roles.setdefault(column, role)
+    return problems
+
+
+def _id_problems(table: pd.DataFrame, column: str, word: str, where) -> list[Problem]:
+    ids = table[column].str.strip()
+    problems = []
+    blank = where(ids.eq(""))
+    if blank:
+        problems.append(Problem(
+            f"{_rows_text(word, blank)}, column {quote(column)}: the id is blank. Give every "
+            "item an id, or map no id column to number the items by row.", blank[0], column))
+    filled = ids[ids.ne("")]
+    repeated = filled[filled.duplicated(keep=False)]
+    for value, group in repeated.groupby(repeated, sort=False):
+        listed = [int(r) for r in group.index]
+        problems.append(Problem(
+            f"{_rows_text(word, listed)}, column {quote(column)}: the id {quote(value)} is "
+            "used more than once. Give each item its own id.", listed[0], column))
+    return problems
+
+
+def _split_problems(table: pd.DataFrame, column: str, word: str) -> list[Problem]:
+    problems = []
+    names = table[column].map(split_name)
+    bad = table[column][names.isna()]
+    for value, group in bad.groupby(bad.str.strip(), sort=False):
+        listed = [int(r) for r in group.index]
+        what = "the split is blank" if not value else f"{quote(value)} is not a split name"
+        problems.append(Problem(f"{_rows_text(word, listed)}, column {quote(column)}: {what}. "
+                                f"{_SPLIT_HINT}", listed[0], column))
+    return problems
+
+
+def content_hash(items, mapping: ColumnMapping) -> str:
+    """sha256 over ids, input names and texts, expected answers (and the split when a split
+    column is mapped), in id order, as compact UTF-8 JSON."""
+    rows = sorted([i.id, [i.fields[c] for c in mapping.inputs], i.expected]
+                  + ([i.split] if mapping.split else []) for i in items)
+    canonical = json.dumps({"inputs": list(mapping.inputs), "items": rows},
+                           ensure_ascii=False, separators=(",", ":"))
+    return hashlib.sha256(canonical.encode("utf-8", "surrogatepass")).hexdigest()
+
+
+def _guess_for(path: str, table: pd.DataFrame) -> ColumnMapping:
+    try:
+        return guess_mapping(list(table.columns))
+    except SetError as e:
+        raise e.for_file(path) from None
+
+
+def load_set(path, mapping: ColumnMapping | None = None, *, split_seed: int = 0,
+             held_out_fraction: float = 0.3, max_cell_chars: int = 100_000) -> QuestionSet:
+    """Read, check and split a question set. With no mapping, one is guessed from the
+    column names. Raises SetError listing every problem found."""
+    if not 0.0 <= held_out_fraction <= 1.0:
+        raise ValueError(f"held_out_fraction must be between 0 and 1, not {held_out_fraction}")
+    if max_cell_chars < 1:
+        raise ValueError(f"max_cell_chars must be at least 1, not {max_cell_chars}")
+    path = os.fspath(path)
+    table = read_table(path)
+    mapping = mapping or _guess_for(path, table)
+    problems = find_problems(table, mapping, max_cell_chars=max_cell_chars)
+    if problems:
+        raise SetError(path, problems)
+    rows = [int(r) for r in table.index]
+    ids = (table[mapping.id].str.strip().tolist() if mapping.id
+           else [str(n) for n in range(1, len(table) + 1)])
+    if mapping.split:
+        splits = table[mapping.split].map(split_name).tolist()
+    else:
+        drawn = split_items(ids, split_seed, held_out_fraction)
+        splits = [drawn[i] for i in ids]
+    columns = {c: table[c].tolist() for c in mapping.inputs}
+    expected = table[mapping.expected].tolist()
+    items = tuple(
+        Item(ids[n], {c: columns[c][n] for c in mapping.inputs}, expected[n], splits[n], rows[n])
+        for n in range(len(table)))
+    return QuestionSet(os.path.splitext(os.path.basename(path))[0], path, mapping, items,
+                       content_hash(items, mapping), split_seed, held_out_fraction)
+
+
+def preview(path, rows: int = 5) -> tuple[pd.DataFrame, ColumnMapping | None, list[str]]:
+    """For a mapping dialog: the first rows, a guessed mapping (None if none can be guessed),
+    and the problems loading with that mapping would meet. Raises SetError only when the
+    file cannot be read at all."""
+    path = os.fspath(path)
+    table = read_table(path)
+    head = table.head(rows)
+    try:
+        mapping = _guess_for(path, table)
+    except SetError as e:
+        return head, None, list(e.problems)
+    notes = []
+    if mapping.split and table[mapping.split].map(split_name).isna().any():
+        notes.append(f"Column {quote(mapping.split)} looks like a split column but holds other "
+                     "values, so the split will be drawn instead. " + _SPLIT_HINT)
+        mapping = ColumnMapping(mapping.inputs, mapping.expected, mapping.id, None)
+    return head, mapping, notes + [p.text for p in find_problems(table, mapping)]
