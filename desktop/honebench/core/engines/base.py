@@ -1,0 +1,84 @@
+"""The engine protocol: what every model backend offers the grader.
+
+Kept small and batch-capable from the start: ``complete`` takes many requests and yields
+results as they finish, so a backend may decode several at once or send them concurrently.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Iterable, Iterator, Protocol, Sequence
+
+
+class EngineError(RuntimeError):
+    """A backend could not be set up or used; the message says what to do."""
+
+
+@dataclass(frozen=True)
+class Request:
+    """One completion to make. ``prefill`` is text the answer must start with.
+
+    ``prefix_chars`` is how many characters at the start of the rendered prompt are the same
+    for every item (the part before any item text). A local engine evaluates that part
+    separately and keeps it between items, so an item's output does not depend on which
+    item came before it.
+    """
+
+    key: str
+    messages: tuple[dict, ...]
+    prefill: str = ""
+    max_tokens: int = 64
+    stop: tuple[str, ...] = ()
+    temperature: float = 0.0
+    seed: int = 0
+    prefix_chars: int = 0
+
+
+@dataclass(frozen=True)
+class Result:
+    """What came back for one request. ``error`` is set for that item alone."""
+
+    key: str
+    text: str = ""
+    prompt_tokens: int = 0
+    completion_tokens: int = 0
+    seconds: float = 0.0
+    finish_reason: str = ""
+    error: str | None = None
+    cached: bool = False
+
+
+@dataclass(frozen=True)
+class Params:
+    """Generation settings that change the output; part of every cache key."""
+
+    max_tokens: int = 64
+    temperature: float = 0.0
+    stop: tuple[str, ...] = field(default_factory=tuple)
+    seed: int = 0
+
+    def as_dict(self) -> dict:
+        return {
+            "max_tokens": self.max_tokens,
+            "temperature": self.temperature,
+            "stop": list(self.stop),
+            "seed": self.seed,
+        }
+
+
+class Engine(Protocol):
+    def render(self, messages: Sequence[dict], prefill: str = "") -> str:
+        """The exact prompt text the model sees, chat template included."""
+
+    def count_tokens(self, text: str) -> int: ...
+
+    def complete(self, requests: Iterable[Request]) -> Iterator[Result]: ...
+
+    def score_choices(self, messages: Sequence[dict], choices: Sequence[str]) -> list[float]:
+        """Log-probability of each choice as the start of the answer."""
+
+    def fingerprint(self) -> str: ...
+
+    def cancel(self) -> None:
+        """Ask a running ``complete`` to stop at the next token."""
+
+    def close(self) -> None: ...
