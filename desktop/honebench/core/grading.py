@@ -1,0 +1,216 @@
+"""A grade run: one wording over a list of items, each answer checked, every mark saved.
+
+Items whose exact prompt was answered before by the same model with the same settings come
+from the completion cache and cost no model time. The rest go to the engine in one batch
+call; marks stream back as they finish, each committed to the project file on arrival.
+Cancel keeps every finished mark; an item the model fails on becomes an error mark.
+"""
+from __future__ import annotations
+
+import hashlib
+import threading
+import time
+from dataclasses import dataclass, replace
+from typing import Callable, Sequence
+
+from .checks import CheckSpec, judge
+from .engines.base import Engine, Params, Request, Result
+from .records import Mark
+from .sets import Item, QuestionSet
+from .store import Store
+from .wording import Wording, build_prompt
+
+SENTINEL = "\u2063ITEM\u2063"  # stands in for item text when finding the shared prompt prefix
+
+
+@dataclass(frozen=True)
+class Progress:
+    done: int
+    total: int
+    passed: int
+    cached: int
+    elapsed: float
+    eta: float | None  # seconds left, None until a model answer has been timed
+
+    @property
+    def items_per_second(self) -> float:
+        return self.done / self.elapsed if self.elapsed > 0 else 0.0
+
+
+@dataclass(frozen=True)
+class RunOutcome:
+    run_id: int
+    status: str  # finished | cancelled
+    marks: tuple[Mark, ...]
+    seconds: float
+    model_calls: int
+
+
+def cache_key(fingerprint: str, params: Params, prompt: str) -> str:
+    raw = "\x1f".join((fingerprint, repr(sorted(params.as_dict().items())), prompt))
+    return hashlib.sha256(raw.encode("utf-8")).hexdigest()
+
+
+def item_seed(base: int, item_id: str) -> int:
+    """A per-item seed that stays the same whichever items are graded alongside."""
+    return (base * 1_000_003 + int(hashlib.sha1(item_id.encode()).hexdigest()[:8], 16)) % 2**31
+
+
+def shared_prefix_chars(engine: Engine, wording: Wording, field_names: Sequence[str]) -> int:
+    """Characters of the rendered prompt that come before any item text."""
+    prompt = build_prompt(wording, {name: SENTINEL for name in field_names})
+    rendered = engine.render(prompt.messages, prompt.prefill)
+    at = rendered.find(SENTINEL)
+    return len(rendered) if at < 0 else at
+
+
+def select_items(qset: QuestionSet, split: str) -> tuple[Item, ...]:
+    if split == "tuning":
+        return qset.tuning()
+    if split == "held_out":
+        return qset.held_out()
+    if split == "all":
+        return qset.items
+    raise ValueError(f"split must be tuning, held_out or all, not {split!r}")
+
+
+class Grader:
+    """Runs wordings over items with one engine, saving into one project file."""
+
+    def __init__(self, store: Store, engine: Engine):
+        self.store, self.engine = store, engine
+
+    def grade(self, *, set_id: int, qset: QuestionSet, wording: Wording, check: CheckSpec,
+              params: Params = Params(), split: str = "tuning",
+              items: Sequence[Item] | None = None, wording_id: int | None = None,
+              on_mark: Callable[[Mark, Progress], None] | None = None,
+              cancel: threading.Event | None = None) -> RunOutcome:
+        items = tuple(items if items is not None else select_items(qset, split))
+        if not check.labels and check.kind == "label":
+            check = replace(check, labels=tuple(qset.labels()))
+        fingerprint = self.engine.fingerprint()
+        run_id = self.store.start_run(
+            set_id=set_id, wording_text=wording.text, placement=wording.placement, split=split,
+            fingerprint=fingerprint, params=params.as_dict(), check=check.as_dict(),
+            n_items=len(items), wording_id=wording_id)
+        cancel = cancel or threading.Event()
+        tally = _Tally(len(items))
+        marks: list[Mark] = []
+
+        def record(item: Item, result: Result, prompt: str) -> None:
+            mark = _mark(item, result, prompt, check)
+            self.store.add_mark(run_id, mark, len(marks))
+            marks.append(mark)
+            tally.add(mark)
+            if on_mark:
+                on_mark(mark, tally.progress())
+
+        status = "failed"
+        try:
+            pending = self._answer_from_cache(items, wording, params, fingerprint, record)
+            requests = [] if cancel.is_set() else [req for _, req, _, _ in pending]
+            by_key = {req.key: (item, prompt, key) for item, req, prompt, key in pending}
+            with _CancelWatcher(cancel, self.engine):
+                for result in self.engine.complete(requests):
+                    item, prompt, key = by_key[result.key]
+                    if result.error is None:
+                        self._remember(key, fingerprint, params, prompt, result)
+                    record(item, result, prompt)
+                    tally.model_calls += 1
+                    if cancel.is_set():
+                        break
+            status = "cancelled" if cancel.is_set() and len(marks) < len(items) else "finished"
+        finally:
+            self.store.finish_run(run_id, status)
+        return RunOutcome(run_id, status, tuple(marks), tally.elapsed(), tally.model_calls)
+
+    def _answer_from_cache(self, items, wording, params, fingerprint, record):
+        """Record cached answers at once; return (item, request, prompt, key) for the rest."""
+        names = list(items[0].fields) if items else []
+        prefix = shared_prefix_chars(self.engine, wording, names)
+        pending = []
+        for item in items:
+            built = build_prompt(wording, item.fields)
+            prompt = self.engine.render(built.messages, built.prefill)
+            seed = item_seed(params.seed, item.id) if params.temperature > 0 else params.seed
+            key = cache_key(fingerprint, replace(params, seed=seed), prompt)
+            hit = self.store.cache_get(key)
+            if hit is not None:
+                record(item, Result(key=item.id, text=hit["text"], cached=True,
+                                    prompt_tokens=hit["prompt_tokens"],
+                                    completion_tokens=hit["completion_tokens"],
+                                    finish_reason=hit["finish_reason"]), prompt)
+                continue
+            pending.append((item, Request(
+                key=item.id, messages=built.messages, prefill=built.prefill,
+                max_tokens=params.max_tokens, stop=params.stop,
+                temperature=params.temperature, seed=seed, prefix_chars=prefix), prompt, key))
+        return pending
+
+    def _remember(self, key: str, fingerprint: str, params: Params, prompt: str,
+                  result: Result) -> None:
+        self.store.cache_put(
+            key, fingerprint=fingerprint,
+            params=repr(params.as_dict()), prompt=prompt, text=result.text,
+            prompt_tokens=result.prompt_tokens, completion_tokens=result.completion_tokens,
+            seconds=result.seconds, finish_reason=result.finish_reason)
+
+
+def _mark(item: Item, result: Result, prompt: str, check: CheckSpec) -> Mark:
+    if result.error is not None:
+        return Mark(item_id=item.id, output="", extracted="", passed=False,
+                    why=f"error: {result.error}", error=result.error, prompt=prompt,
+                    prompt_tokens=result.prompt_tokens, seconds=result.seconds)
+    verdict = judge(result.text, item.expected, check)
+    return Mark(item_id=item.id, output=result.text, extracted=verdict.extracted,
+                passed=verdict.passed, why=verdict.why, score=verdict.score,
+                prompt_tokens=result.prompt_tokens, completion_tokens=result.completion_tokens,
+                seconds=result.seconds, cached=result.cached, prompt=prompt)
+
+
+class _Tally:
+    def __init__(self, total: int):
+        self.total, self.done, self.passed, self.cached, self.model_calls = total, 0, 0, 0, 0
+        self.model_seconds = 0.0
+        self.start = time.perf_counter()
+
+    def add(self, mark: Mark) -> None:
+        self.done += 1
+        self.passed += mark.passed
+        self.cached += mark.cached
+        self.model_seconds += 0.0 if mark.cached else mark.seconds
+
+    def elapsed(self) -> float:
+        return time.perf_counter() - self.start
+
+    def progress(self) -> Progress:
+        timed = self.done - self.cached
+        eta = None
+        if timed > 0:
+            eta = (self.total - self.done) * (self.model_seconds / timed)
+        elif self.done == self.total:
+            eta = 0.0
+        return Progress(self.done, self.total, self.passed, self.cached, self.elapsed(), eta)
+
+
+class _CancelWatcher:
+    """Passes a cancel request on to the engine while a batch is running."""
+
+    def __init__(self, cancel: threading.Event, engine: Engine):
+        self.cancel, self.engine = cancel, engine
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._watch, name="honebench-cancel", daemon=True)
+
+    def _watch(self) -> None:
+        while not self._stop.is_set():
+            if self.cancel.wait(0.05):
+                self.engine.cancel()
+                return
+
+    def __enter__(self):
+        self._thread.start()
+        return self
+
+    def __exit__(self, *exc):
+        self._stop.set()
+        self._thread.join()

@@ -1,0 +1,107 @@
+"""The project: one task's question set, shelf, runs and settings in one file.
+
+A thin facade over the store that both fronts use (the GUI through background jobs, the CLI
+directly). It knows the current set, the answer check and the editor draft.
+"""
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+from .checks import CheckSpec
+from .recipes import recipe_for
+from .sets import ColumnMapping, QuestionSet, load_set
+from .store import PROJECT_SUFFIX, Store
+from .summary import RunSummary, summarize
+from .wording import Wording
+
+
+def projects_dir() -> Path:
+    """Where projects made for a bare question set live ($HONEBENCH_HOME or ~/.honebench)."""
+    root = Path(os.environ.get("HONEBENCH_HOME") or Path.home() / ".honebench")
+    return root / "projects"
+
+
+def default_project_path(set_path: str | Path) -> Path:
+    return projects_dir() / (Path(set_path).stem + PROJECT_SUFFIX)
+
+
+def read_question_set(set_path: str | Path, mapping: ColumnMapping | None = None, *,
+                      split_seed: int = 0, held_out_fraction: float = 0.3) -> QuestionSet:
+    """Load a set; a sample set's recipe gives its mapping when none is given.
+    Raises SetError naming the file, row and column; writes nothing."""
+    recipe = recipe_for(set_path)
+    if mapping is None and recipe:
+        mapping = ColumnMapping(inputs=tuple(recipe["inputs"]), expected=recipe["expected"],
+                                id=recipe.get("id", "id"))
+    return load_set(set_path, mapping, split_seed=split_seed,
+                    held_out_fraction=held_out_fraction)
+
+
+class Project:
+    def __init__(self, path: str | Path):
+        self.path = Path(path)
+        self.path.parent.mkdir(parents=True, exist_ok=True)
+        self.store = Store(self.path)
+
+    # -- the question set ----------------------------------------------------------------
+    def import_set(self, set_path: str | Path, mapping: ColumnMapping | None = None, *,
+                   split_seed: int = 0, held_out_fraction: float = 0.3) -> int:
+        """Read and validate a question set, then store it and make it current."""
+        qset = read_question_set(set_path, mapping, split_seed=split_seed,
+                                 held_out_fraction=held_out_fraction)
+        return self.add_set(qset)
+
+    def add_set(self, qset: QuestionSet) -> int:
+        """Store an already validated set and make it current. A sample set's recipe
+        supplies the answer check, a starter wording and a title when none are set."""
+        set_id = self.store.add_set(qset)
+        self.store.set_setting("current_set", set_id)
+        recipe = recipe_for(qset.path)
+        if recipe:
+            if self.store.setting("check") is None:
+                self.store.set_setting("check", CheckSpec.from_dict(recipe["check"]).as_dict())
+            if self.store.setting("draft") is None:
+                self.save_draft(Wording(recipe["starter_wording"], recipe.get("placement", "system")))
+            if self.store.setting("title") is None:
+                self.store.set_setting("title", recipe.get("title", qset.name))
+        return set_id
+
+    def current_set(self) -> tuple[int, QuestionSet]:
+        set_id = self.store.setting("current_set")
+        if set_id is None:
+            ids = self.store.set_ids()
+            if not ids:
+                raise LookupError(f"project {self.path} has no question set yet; import one")
+            set_id = ids[-1]
+        return set_id, self.store.get_set(set_id)
+
+    # -- check and draft -----------------------------------------------------------------
+    def check(self) -> CheckSpec:
+        saved = self.store.setting("check")
+        return CheckSpec.from_dict(saved) if saved else CheckSpec()
+
+    def set_check(self, spec: CheckSpec) -> None:
+        spec.validate()
+        self.store.set_setting("check", spec.as_dict())
+
+    def draft(self) -> Wording:
+        saved = self.store.setting("draft") or {}
+        return Wording(saved.get("text", ""), saved.get("placement", "system"))
+
+    def save_draft(self, wording: Wording) -> None:
+        self.store.set_setting("draft", {"text": wording.text, "placement": wording.placement})
+
+    def title(self) -> str:
+        return self.store.setting("title") or self.path.stem
+
+    # -- runs ----------------------------------------------------------------------------
+    def summary(self, run_id: int) -> RunSummary:
+        run = self.store.run(run_id)
+        qset = self.store.get_set(run.set_id)
+        check = CheckSpec.from_dict(run.check)
+        return summarize(self.store.marks(run_id), qset.items, check.kind,
+                         check.labels or qset.labels())
+
+    def close(self) -> None:
+        self.store.close()

@@ -1,0 +1,327 @@
+"""The project file: one SQLite database per task (WAL mode).
+
+Holds question sets (with their items, so a project opens without the original file),
+wordings on the shelf and the decisions about them, grade runs with their marks, settings
+such as the editor draft, and the completion cache. Every write commits at once, so a crash
+loses at most the item in flight. Each thread gets its own connection.
+"""
+from __future__ import annotations
+
+import json
+import sqlite3
+import threading
+from datetime import datetime, timezone
+from pathlib import Path
+from typing import Iterable
+
+from .records import Mark, RunInfo, ShelfEntry
+from .sets import ColumnMapping, Item, QuestionSet
+
+MIGRATIONS: tuple[str, ...] = (
+    # 1: first schema
+    """
+    CREATE TABLE settings (key TEXT PRIMARY KEY, value TEXT NOT NULL);
+    CREATE TABLE question_sets (
+        id INTEGER PRIMARY KEY, name TEXT NOT NULL, path TEXT NOT NULL,
+        content_hash TEXT NOT NULL, mapping TEXT NOT NULL, split_seed INTEGER NOT NULL,
+        held_out_fraction REAL NOT NULL, n_items INTEGER NOT NULL, added_at TEXT NOT NULL,
+        UNIQUE (content_hash, mapping, split_seed, held_out_fraction));
+    CREATE TABLE items (
+        set_id INTEGER NOT NULL REFERENCES question_sets(id), item_id TEXT NOT NULL,
+        position INTEGER NOT NULL, fields TEXT NOT NULL, expected TEXT NOT NULL,
+        split TEXT NOT NULL, row INTEGER NOT NULL, PRIMARY KEY (set_id, item_id));
+    CREATE TABLE wordings (
+        id INTEGER PRIMARY KEY, version INTEGER NOT NULL UNIQUE, text TEXT NOT NULL,
+        placement TEXT NOT NULL, parent_id INTEGER REFERENCES wordings(id),
+        origin TEXT NOT NULL, inputs TEXT NOT NULL DEFAULT '{}', note TEXT NOT NULL DEFAULT '',
+        decision TEXT NOT NULL DEFAULT '', created_at TEXT NOT NULL);
+    CREATE TABLE decisions (
+        id INTEGER PRIMARY KEY, wording_id INTEGER NOT NULL REFERENCES wordings(id),
+        verdict TEXT NOT NULL, note TEXT NOT NULL DEFAULT '', at TEXT NOT NULL);
+    CREATE TABLE runs (
+        id INTEGER PRIMARY KEY, set_id INTEGER NOT NULL REFERENCES question_sets(id),
+        wording_id INTEGER REFERENCES wordings(id), wording_text TEXT NOT NULL,
+        placement TEXT NOT NULL, split TEXT NOT NULL, fingerprint TEXT NOT NULL,
+        params TEXT NOT NULL, check_spec TEXT NOT NULL, started_at TEXT NOT NULL,
+        finished_at TEXT, status TEXT NOT NULL, n_items INTEGER NOT NULL);
+    CREATE TABLE marks (
+        run_id INTEGER NOT NULL REFERENCES runs(id), item_id TEXT NOT NULL,
+        seq INTEGER NOT NULL, output TEXT NOT NULL, extracted TEXT NOT NULL,
+        passed INTEGER NOT NULL, score REAL NOT NULL, why TEXT NOT NULL,
+        prompt_tokens INTEGER NOT NULL, completion_tokens INTEGER NOT NULL,
+        seconds REAL NOT NULL, error TEXT, cached INTEGER NOT NULL, prompt TEXT NOT NULL,
+        PRIMARY KEY (run_id, item_id));
+    CREATE TABLE completion_cache (
+        key TEXT PRIMARY KEY, fingerprint TEXT NOT NULL, params TEXT NOT NULL,
+        prompt TEXT NOT NULL, text TEXT NOT NULL, prompt_tokens INTEGER NOT NULL,
+        completion_tokens INTEGER NOT NULL, seconds REAL NOT NULL,
+        finish_reason TEXT NOT NULL, created_at TEXT NOT NULL);
+    """,
+)
+SCHEMA_VERSION = len(MIGRATIONS)
+PROJECT_SUFFIX = ".hone"
+
+
+class StoreError(RuntimeError):
+    """The project file cannot be opened or is from a newer honebench."""
+
+
+def now() -> str:
+    return datetime.now(timezone.utc).isoformat(timespec="seconds")
+
+
+class Store:
+    """One project file. Safe to share between threads: each thread has its own connection."""
+
+    def __init__(self, path: str | Path):
+        self.path = Path(path)
+        self._local = threading.local()
+        self._lock = threading.Lock()
+        self._migrate()
+
+    # -- connections ---------------------------------------------------------------------
+    def _conn(self) -> sqlite3.Connection:
+        conn = getattr(self._local, "conn", None)
+        if conn is None:
+            try:
+                conn = sqlite3.connect(self.path, timeout=30, isolation_level=None)
+                conn.execute("PRAGMA journal_mode=WAL")
+            except sqlite3.DatabaseError as exc:
+                raise StoreError(
+                    f"{self.path} is not a honebench project file ({exc}). "
+                    "Open a .hone file or create a new project."
+                ) from exc
+            conn.execute("PRAGMA foreign_keys=ON")
+            conn.execute("PRAGMA synchronous=NORMAL")
+            conn.row_factory = sqlite3.Row
+            self._local.conn = conn
+        return conn
+
+    def _migrate(self) -> None:
+        conn = self._conn()
+        version = conn.execute("PRAGMA user_version").fetchone()[0]
+        if version > SCHEMA_VERSION:
+            raise StoreError(
+                f"{self.path} was written by a newer honebench (schema {version}, this one "
+                f"knows {SCHEMA_VERSION}). Upgrade honebench to open it."
+            )
+        for number in range(version, SCHEMA_VERSION):
+            with self._tx() as c:
+                for statement in _statements(MIGRATIONS[number]):
+                    c.execute(statement)
+                c.execute(f"PRAGMA user_version={number + 1}")
+
+    def _tx(self):
+        return _Transaction(self._conn(), self._lock)
+
+    def close(self) -> None:
+        conn = getattr(self._local, "conn", None)
+        if conn is not None:
+            conn.close()
+            self._local.conn = None
+
+    # -- settings ------------------------------------------------------------------------
+    def setting(self, key: str, default=None):
+        row = self._conn().execute("SELECT value FROM settings WHERE key=?", (key,)).fetchone()
+        return default if row is None else json.loads(row[0])
+
+    def set_setting(self, key: str, value) -> None:
+        with self._tx() as c:
+            c.execute(
+                "INSERT INTO settings(key, value) VALUES(?, ?) "
+                "ON CONFLICT(key) DO UPDATE SET value=excluded.value",
+                (key, json.dumps(value)),
+            )
+
+    # -- question sets -------------------------------------------------------------------
+    def add_set(self, qset: QuestionSet) -> int:
+        """Store a set and its items; the same content and split gives back the same id."""
+        mapping = json.dumps(qset.mapping.as_dict(), sort_keys=True)
+        key = (qset.content_hash, mapping, qset.split_seed, qset.held_out_fraction)
+        conn = self._conn()
+        found = conn.execute(
+            "SELECT id FROM question_sets WHERE content_hash=? AND mapping=? AND split_seed=? "
+            "AND held_out_fraction=?", key).fetchone()
+        if found:
+            return found[0]
+        with self._tx() as c:
+            cur = c.execute(
+                "INSERT INTO question_sets(name, path, content_hash, mapping, split_seed, "
+                "held_out_fraction, n_items, added_at) VALUES(?,?,?,?,?,?,?,?)",
+                (qset.name, str(qset.path), *key, len(qset.items), now()),
+            )
+            set_id = cur.lastrowid
+            c.executemany(
+                "INSERT INTO items(set_id, item_id, position, fields, expected, split, row) "
+                "VALUES(?,?,?,?,?,?,?)",
+                [(set_id, it.id, pos, json.dumps(it.fields), it.expected, it.split, it.row)
+                 for pos, it in enumerate(qset.items)],
+            )
+        return set_id
+
+    def set_ids(self) -> list[int]:
+        return [r[0] for r in self._conn().execute("SELECT id FROM question_sets ORDER BY id")]
+
+    def get_set(self, set_id: int) -> QuestionSet:
+        conn = self._conn()
+        head = conn.execute("SELECT * FROM question_sets WHERE id=?", (set_id,)).fetchone()
+        if head is None:
+            raise KeyError(f"no question set {set_id} in {self.path}")
+        items = tuple(
+            Item(id=r["item_id"], fields=json.loads(r["fields"]), expected=r["expected"],
+                 split=r["split"], row=r["row"])
+            for r in conn.execute(
+                "SELECT * FROM items WHERE set_id=? ORDER BY position", (set_id,))
+        )
+        return QuestionSet(
+            name=head["name"], path=head["path"],
+            mapping=ColumnMapping.from_dict(json.loads(head["mapping"])), items=items,
+            content_hash=head["content_hash"], split_seed=head["split_seed"],
+            held_out_fraction=head["held_out_fraction"],
+        )
+
+    # -- the shelf -----------------------------------------------------------------------
+    def add_wording(self, text: str, placement: str, *, parent_id: int | None = None,
+                    origin: str = "typed", inputs: dict | None = None, note: str = "",
+                    decision: str = "") -> ShelfEntry:
+        with self._tx() as c:
+            version = c.execute("SELECT COALESCE(MAX(version), 0) + 1 FROM wordings").fetchone()[0]
+            cur = c.execute(
+                "INSERT INTO wordings(version, text, placement, parent_id, origin, inputs, note,"
+                " decision, created_at) VALUES(?,?,?,?,?,?,?,?,?)",
+                (version, text, placement, parent_id, origin, json.dumps(inputs or {}), note,
+                 decision, now()),
+            )
+            wid = cur.lastrowid
+            if decision:
+                c.execute("INSERT INTO decisions(wording_id, verdict, note, at) VALUES(?,?,?,?)",
+                          (wid, decision, note, now()))
+        return self.wording(wid)
+
+    def find_wording(self, text: str, placement: str) -> ShelfEntry | None:
+        row = self._conn().execute(
+            "SELECT * FROM wordings WHERE text=? AND placement=? ORDER BY id LIMIT 1",
+            (text, placement)).fetchone()
+        return None if row is None else _entry(row)
+
+    def wording(self, wording_id: int) -> ShelfEntry:
+        row = self._conn().execute("SELECT * FROM wordings WHERE id=?", (wording_id,)).fetchone()
+        if row is None:
+            raise KeyError(f"no wording {wording_id} on the shelf")
+        return _entry(row)
+
+    def shelf(self) -> list[ShelfEntry]:
+        return [_entry(r) for r in self._conn().execute("SELECT * FROM wordings ORDER BY version")]
+
+    def decide(self, wording_id: int, verdict: str, note: str = "") -> None:
+        if verdict not in ("kept", "set_aside"):
+            raise ValueError(f"verdict must be 'kept' or 'set_aside', not {verdict!r}")
+        with self._tx() as c:
+            c.execute("UPDATE wordings SET decision=? WHERE id=?", (verdict, wording_id))
+            c.execute("INSERT INTO decisions(wording_id, verdict, note, at) VALUES(?,?,?,?)",
+                      (wording_id, verdict, note, now()))
+
+    def set_note(self, wording_id: int, note: str) -> None:
+        with self._tx() as c:
+            c.execute("UPDATE wordings SET note=? WHERE id=?", (note, wording_id))
+
+    # -- runs and marks ------------------------------------------------------------------
+    def start_run(self, *, set_id: int, wording_text: str, placement: str, split: str,
+                  fingerprint: str, params: dict, check: dict, n_items: int,
+                  wording_id: int | None = None) -> int:
+        with self._tx() as c:
+            cur = c.execute(
+                "INSERT INTO runs(set_id, wording_id, wording_text, placement, split, fingerprint,"
+                " params, check_spec, started_at, status, n_items) VALUES(?,?,?,?,?,?,?,?,?,?,?)",
+                (set_id, wording_id, wording_text, placement, split, fingerprint,
+                 json.dumps(params, sort_keys=True), json.dumps(check, sort_keys=True), now(),
+                 "running", n_items),
+            )
+            return cur.lastrowid
+
+    def add_mark(self, run_id: int, mark: Mark, seq: int) -> None:
+        """Commit one mark; ``seq`` is its arrival order within the run."""
+        with self._tx() as c:
+            c.execute(
+                "INSERT OR REPLACE INTO marks(run_id, item_id, seq, output, extracted, passed, "
+                "score, why, prompt_tokens, completion_tokens, seconds, error, cached, prompt) "
+                "VALUES(?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                (run_id, mark.item_id, seq, mark.output, mark.extracted, int(mark.passed),
+                 mark.score, mark.why, mark.prompt_tokens, mark.completion_tokens, mark.seconds,
+                 mark.error, int(mark.cached), mark.prompt),
+            )
+
+    def finish_run(self, run_id: int, status: str) -> None:
+        with self._tx() as c:
+            c.execute("UPDATE runs SET status=?, finished_at=? WHERE id=?", (status, now(), run_id))
+
+    def run(self, run_id: int) -> RunInfo:
+        row = self._conn().execute("SELECT * FROM runs WHERE id=?", (run_id,)).fetchone()
+        if row is None:
+            raise KeyError(f"no grade run {run_id} in {self.path}")
+        return _run(row)
+
+    def runs(self, *, wording_id: int | None = None) -> list[RunInfo]:
+        sql, args = "SELECT * FROM runs", ()
+        if wording_id is not None:
+            sql, args = sql + " WHERE wording_id=?", (wording_id,)
+        return [_run(r) for r in self._conn().execute(sql + " ORDER BY id", args)]
+
+    def marks(self, run_id: int) -> list[Mark]:
+        rows = self._conn().execute("SELECT * FROM marks WHERE run_id=? ORDER BY seq", (run_id,))
+        return [Mark(item_id=r["item_id"], output=r["output"], extracted=r["extracted"],
+                     passed=bool(r["passed"]), why=r["why"], score=r["score"],
+                     prompt_tokens=r["prompt_tokens"], completion_tokens=r["completion_tokens"],
+                     seconds=r["seconds"], error=r["error"], cached=bool(r["cached"]),
+                     prompt=r["prompt"]) for r in rows]
+
+    # -- completion cache ----------------------------------------------------------------
+    def cache_get(self, key: str) -> sqlite3.Row | None:
+        return self._conn().execute(
+            "SELECT * FROM completion_cache WHERE key=?", (key,)).fetchone()
+
+    def cache_put(self, key: str, *, fingerprint: str, params: str, prompt: str, text: str,
+                  prompt_tokens: int, completion_tokens: int, seconds: float,
+                  finish_reason: str) -> None:
+        with self._tx() as c:
+            c.execute(
+                "INSERT OR REPLACE INTO completion_cache VALUES(?,?,?,?,?,?,?,?,?,?)",
+                (key, fingerprint, params, prompt, text, prompt_tokens, completion_tokens,
+                 seconds, finish_reason, now()),
+            )
+
+
+class _Transaction:
+    """BEGIN IMMEDIATE ... COMMIT, rolled back on error; serialised within the process."""
+
+    def __init__(self, conn: sqlite3.Connection, lock: threading.Lock):
+        self.conn, self.lock = conn, lock
+
+    def __enter__(self) -> sqlite3.Connection:
+        self.lock.acquire()
+        self.conn.execute("BEGIN IMMEDIATE")
+        return self.conn
+
+    def __exit__(self, kind, value, tb) -> None:
+        try:
+            self.conn.execute("ROLLBACK" if kind else "COMMIT")
+        finally:
+            self.lock.release()
+
+
+def _statements(script: str) -> Iterable[str]:
+    return [s.strip() for s in script.split(";") if s.strip()]
+
+
+def _entry(r: sqlite3.Row) -> ShelfEntry:
+    return ShelfEntry(id=r["id"], version=r["version"], text=r["text"], placement=r["placement"],
+                      parent_id=r["parent_id"], origin=r["origin"], created_at=r["created_at"],
+                      decision=r["decision"], note=r["note"], inputs=json.loads(r["inputs"]))
+
+
+def _run(r: sqlite3.Row) -> RunInfo:
+    return RunInfo(id=r["id"], set_id=r["set_id"], wording_id=r["wording_id"],
+                   wording_text=r["wording_text"], placement=r["placement"], split=r["split"],
+                   fingerprint=r["fingerprint"], params=json.loads(r["params"]),
+                   check=json.loads(r["check_spec"]), started_at=r["started_at"],
+                   finished_at=r["finished_at"], status=r["status"], n_items=r["n_items"])
