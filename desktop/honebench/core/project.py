@@ -8,7 +8,11 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
+from dataclasses import dataclass
+
 from .checks import CheckSpec
+from .records import ShelfEntry
+from .stats import Score, score
 from .recipes import recipe_for
 from .sets import ColumnMapping, QuestionSet, load_set
 from .store import PROJECT_SUFFIX, Store
@@ -24,6 +28,15 @@ def projects_dir() -> Path:
 
 def default_project_path(set_path: str | Path) -> Path:
     return projects_dir() / (Path(set_path).stem + PROJECT_SUFFIX)
+
+
+@dataclass(frozen=True)
+class ShelfRow:
+    """A shelf entry with its latest finished scores on the current set."""
+
+    entry: ShelfEntry
+    tuning: Score | None
+    held_out: Score | None
 
 
 def read_question_set(set_path: str | Path, mapping: ColumnMapping | None = None, *,
@@ -94,6 +107,47 @@ class Project:
 
     def title(self) -> str:
         return self.store.setting("title") or self.path.stem
+
+    # -- the shelf -----------------------------------------------------------------------
+    def keep(self, wording: Wording, *, parent_id: int | None = None, origin: str = "typed",
+             note: str = "", inputs: dict | None = None) -> ShelfEntry:
+        """Put a wording on the shelf as kept (the existing entry if already there)."""
+        found = self.store.find_wording(wording.text, wording.placement)
+        if found is not None:
+            if found.decision != "kept":
+                self.store.decide(found.id, "kept", note)
+            return self.store.wording(found.id)
+        return self.store.add_wording(wording.text, wording.placement, parent_id=parent_id,
+                                      origin=origin, note=note, inputs=inputs, decision="kept")
+
+    def set_aside(self, wording: Wording, *, parent_id: int | None = None,
+                  origin: str = "typed", note: str = "", inputs: dict | None = None) -> ShelfEntry:
+        """Record a wording on the shelf as set aside, so it is never proposed again."""
+        found = self.store.find_wording(wording.text, wording.placement)
+        if found is None:
+            return self.store.add_wording(wording.text, wording.placement, parent_id=parent_id,
+                                          origin=origin, note=note, inputs=inputs,
+                                          decision="set_aside")
+        self.store.decide(found.id, "set_aside", note)
+        return self.store.wording(found.id)
+
+    def shelf_rows(self) -> list[ShelfRow]:
+        set_id = self.store.setting("current_set")
+        latest: dict[tuple[str, str, str], int] = {}
+        for run in self.store.runs():
+            if run.status == "finished" and run.set_id == set_id:
+                latest[(run.wording_text, run.placement, run.split)] = run.id
+        rows = []
+        for entry in self.store.shelf():
+            found = [latest.get((entry.text, entry.placement, split)) for split in
+                     ("tuning", "held_out")]
+            tuning, held = (self.run_score(r) if r else None for r in found)
+            rows.append(ShelfRow(entry, tuning, held))
+        return rows
+
+    def run_score(self, run_id: int) -> Score:
+        passed, total = self.store.run_counts(run_id)
+        return score(passed, total)
 
     # -- runs ----------------------------------------------------------------------------
     def summary(self, run_id: int) -> RunSummary:

@@ -275,6 +275,17 @@ class Store:
                      seconds=r["seconds"], error=r["error"], cached=bool(r["cached"]),
                      prompt=r["prompt"]) for r in rows]
 
+    def run_counts(self, run_id: int) -> tuple[int, int]:
+        """(passed, graded) for a run."""
+        row = self._conn().execute(
+            "SELECT COALESCE(SUM(passed), 0), COUNT(*) FROM marks WHERE run_id=?",
+            (run_id,)).fetchone()
+        return int(row[0]), int(row[1])
+
+    def latest_run(self) -> RunInfo | None:
+        row = self._conn().execute("SELECT * FROM runs ORDER BY id DESC LIMIT 1").fetchone()
+        return None if row is None else _run(row)
+
     # -- completion cache ----------------------------------------------------------------
     def cache_get(self, key: str) -> sqlite3.Row | None:
         return self._conn().execute(

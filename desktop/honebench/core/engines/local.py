@@ -13,12 +13,12 @@ import json
 import logging
 import queue
 import threading
-import time
 from concurrent.futures import Future
 from pathlib import Path
 from typing import Callable, Iterable, Iterator, Sequence
 
 from .base import EngineError, Request, Result
+from .batched import BatchDecoder, Job
 from .model_files import bundled_model_path, check_model_file, file_sha256, physical_cores
 
 log = logging.getLogger("honebench.llama")
@@ -26,7 +26,7 @@ _FALLBACK_TEMPLATE = (
     "{% for m in messages %}<|im_start|>{{ m['role'] }}\n{{ m['content'] }}<|im_end|>\n"
     "{% endfor %}{% if add_generation_prompt %}<|im_start|>assistant\n{% endif %}"
 )
-_LEVELS = {2: logging.WARNING, 3: logging.ERROR}
+_LEVELS = {3: logging.WARNING, 4: logging.ERROR}  # ggml: 1 debug, 2 info, 3 warn, 4 error
 
 
 def _install_log_callback() -> None:
@@ -61,10 +61,13 @@ class _Owner(threading.Thread):
                 except BaseException as exc:  # handed back to the caller
                     fut.set_exception(exc)
 
-    def call(self, fn: Callable):
+    def submit(self, fn: Callable) -> Future:
         fut: Future = Future()
         self.jobs.put((fn, fut))
-        return fut.result()
+        return fut
+
+    def call(self, fn: Callable):
+        return self.submit(fn).result()
 
 
 class LocalEngine:
@@ -73,10 +76,12 @@ class LocalEngine:
     kind = "local"
 
     def __init__(self, model_path: str | Path | None = None, *, n_ctx: int = 2048,
-                 n_threads: int | None = None, n_batch: int = 512):
+                 n_threads: int | None = None, n_batch: int = 512, n_seq: int = 4):
         self.model_path = check_model_file(model_path or bundled_model_path())
         self.n_ctx, self.n_batch = n_ctx, n_batch
         self.n_threads = n_threads or physical_cores()
+        self.n_seq = n_seq  # items decoded together
+        self._batcher: BatchDecoder | None = None
         self._cancel = threading.Event()
         self._owner = _Owner()
         self._owner.start()
@@ -141,88 +146,63 @@ class LocalEngine:
         return f"{self.model_path.name}@sha256:{self._sha[:16]};n_ctx={self.n_ctx}"
 
     def describe(self) -> str:
-        return f"{self.model_path.name} (local, {self.n_threads} threads, context {self.n_ctx})"
+        return (f"{self.model_path.name} (local, {self.n_threads} threads, context "
+                f"{self.n_ctx}, {self.n_seq} items at a time)")
 
     def cancel(self) -> None:
         self._cancel.set()
 
     def complete(self, requests: Iterable[Request]) -> Iterator[Result]:
-        """Results in request order, each as soon as it is done. After ``cancel()`` the
-        generator stops; the item in flight is dropped."""
+        """Results as items finish (not necessarily in request order), several items
+        decoded together. After ``cancel()`` the generator stops; items in flight are
+        dropped."""
         self._cancel.clear()
+        out: queue.Queue = queue.Queue()
+        done = object()
+
+        def work():
+            try:
+                for result in self._decoder().run(self._jobs(requests, out)):
+                    out.put(result)
+            finally:
+                out.put(done)
+
+        fut = self._owner.submit(work)
+        try:
+            while (item := out.get()) is not done:
+                yield item
+        finally:
+            if not fut.done():
+                self._cancel.set()
+            fut.result()
+
+    def _jobs(self, requests: Iterable[Request], out: queue.Queue) -> Iterator[Job]:
+        """Tokenised work for the decoder; prompts too long for the context are answered
+        with an error at once."""
         for req in requests:
             if self._cancel.is_set():
                 return
-            result = self._owner.call(lambda r=req: self._one(r))
-            if result is None:  # cancelled mid-item
-                return
-            yield result
-
-    def _one(self, req: Request) -> Result | None:
-        prompt = self.render(req.messages, req.prefill)
-        start = time.perf_counter()
-        try:
+            prompt = self.render(req.messages, req.prefill)
             tokens = self._tokens(prompt)
             if len(tokens) + 1 >= self.n_ctx:
-                return Result(key=req.key, prompt_tokens=len(tokens),
-                              error=f"prompt is {len(tokens)} tokens; the context holds "
-                                    f"{self.n_ctx}. Shorten the wording or the item.")
-            self._settle_prefix(tokens, prompt[:req.prefix_chars])
-            text, n_out, finish = self._generate(tokens, req)
-        except RuntimeError as exc:
-            self._llm.reset()
-            if self._cancel.is_set():
-                return None
-            return Result(key=req.key, error=f"the model failed on this item ({exc})",
-                          seconds=time.perf_counter() - start)
-        except ValueError as exc:
-            return Result(key=req.key, error=f"the model refused this item ({exc})",
-                          seconds=time.perf_counter() - start)
-        if text is None:
-            return None
-        return Result(key=req.key, text=text, prompt_tokens=len(tokens),
-                      completion_tokens=n_out, seconds=time.perf_counter() - start,
-                      finish_reason=finish)
+                out.put(Result(key=req.key, prompt_tokens=len(tokens),
+                               error=f"prompt is {len(tokens)} tokens; the context holds "
+                                     f"{self.n_ctx}. Shorten the wording or the item."))
+                continue
+            prefix = 0
+            if req.prefix_chars:
+                head = self._tokens(prompt[:req.prefix_chars])
+                while prefix < min(len(head), len(tokens) - 1) and head[prefix] == tokens[prefix]:
+                    prefix += 1
+            limit = max(1, min(req.max_tokens, self.n_ctx - len(tokens) - 1))
+            yield Job(request=req, tokens=tokens, prefix=prefix, limit=limit)
 
-    def _settle_prefix(self, tokens: list[int], prefix: str) -> None:
-        """Leave exactly the shared prefix in the model's memory, evaluated on its own, so
-        the item's part is always decoded the same way whatever ran before."""
-        llm = self._llm
-        k = 0
-        if prefix:
-            head = self._tokens(prefix)
-            while k < min(len(head), len(tokens) - 1) and head[k] == tokens[k]:
-                k += 1
-        cached = llm.input_ids[:llm.n_tokens].tolist()
-        if k and len(cached) >= k and cached[:k] == tokens[:k]:
-            llm._ctx.kv_cache_seq_rm(-1, k, -1)
-            llm.n_tokens = k
-        else:
-            llm.reset()
-            if k:
-                llm.eval(tokens[:k])
-
-    def _generate(self, tokens: list[int], req: Request):
-        """Sample the answer; (None, 0, "") when cancelled between tokens."""
-        llm = self._llm
-        pieces, finish = [], "length"
-        room = self.n_ctx - len(tokens) - 1
-        stream = llm.create_completion(
-            prompt=tokens, max_tokens=max(1, min(req.max_tokens, room)),
-            temperature=req.temperature, seed=req.seed, stream=True, repeat_penalty=1.0,
-            stop=[s for s in (*req.stop, self._eos_text) if s],
-        )
-        for chunk in stream:
-            if self._cancel.is_set():
-                stream.close()
-                llm.reset()
-                return None, 0, ""
-            choice = chunk["choices"][0]
-            pieces.append(choice["text"])
-            finish = choice.get("finish_reason") or finish
-        text = "".join(pieces)
-        n_out = len(llm.tokenize(text.encode("utf-8"), add_bos=False, special=True)) if text else 0
-        return text, n_out, finish
+    def _decoder(self) -> BatchDecoder:
+        if self._batcher is None:
+            self._batcher = BatchDecoder(self._llm, n_ctx=self.n_ctx * 2, n_seq=self.n_seq,
+                                         n_threads=self.n_threads,
+                                         cancelled=self._cancel.is_set)
+        return self._batcher
 
     def score_choices(self, messages: Sequence[dict], choices: Sequence[str],
                       prefill: str = "") -> list[float]:
@@ -255,6 +235,9 @@ class LocalEngine:
         return scores
 
     def close(self) -> None:
+        if self._batcher is not None and self._owner.is_alive():
+            self._owner.call(self._batcher.close)
+            self._batcher = None
         if self._owner.is_alive():
             self._cancel.set()
             self._owner.jobs.put((None, None))
