@@ -88,14 +88,16 @@ def make_handler(state: FakeServer):
                     times = state.seen[user]
             if refuse:
                 return self._send(500, {"error": {"message": "test server request limit"}})
-            try:
-                if self.path != "/v1/chat/completions":
-                    return self._send(404, {"error": {"message": "no such route"}})
+            wrong_path = self.path != "/v1/chat/completions"
+            if not wrong_path:
                 time.sleep(2.0 if user == "slow" else state.delay)
-                self._reply(user, times)
-            finally:
-                with state.lock:
-                    state.in_flight -= 1
+            # leave the in-flight count before answering: once the answer is out, the
+            # client may send its next request before this thread runs again
+            with state.lock:
+                state.in_flight -= 1
+            if wrong_path:
+                return self._send(404, {"error": {"message": "no such route"}})
+            self._reply(user, times)
 
         def _reply(self, user, times):
             auth = self.headers.get("Authorization", "")

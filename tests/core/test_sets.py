@@ -139,8 +139,8 @@ def test_guess_mapping(columns, want):
 
 def test_guess_mapping_without_expected_lists_columns():
     with pytest.raises(SetError) as err:
-        guess_mapping(["question", "route"])
-    assert "'question'" in str(err.value) and "'route'" in str(err.value)
+        guess_mapping(["question", "remarks"])
+    assert "'question'" in str(err.value) and "'remarks'" in str(err.value)
     with pytest.raises(SetError, match="No column is left"):
         guess_mapping(["id", "answer"])
 

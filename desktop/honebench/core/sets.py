@@ -31,7 +31,8 @@ _SPLIT_HINT = "Write tuning or held-out (train/test, tune/holdout and dev/test a
 _EXPECTED_NAMES = ("expected", "expected_answer", "expected_output", "answer", "gold",
                    "gold_answer", "gold_label", "label", "target", "output", "correct",
                    "correct_answer", "reference_answer", "ground_truth", "truth", "category",
-                   "class", "intent")
+                   "class", "intent", "department", "desk", "team", "queue", "route",
+                   "topic", "sentiment", "mood", "verdict", "result")
 _EXPECTED_WORDS = ("answer", "expected", "label", "gold", "target")
 _ID_NAMES = ("id", "item_id", "itemid", "item_no", "qid", "question_id", "uid", "uuid",
              "example_id", "row_id", "record_id")

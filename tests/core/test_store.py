@@ -1,0 +1,81 @@
+"""The project file: schema version, migrations, reopening, refusing foreign files."""
+from __future__ import annotations
+
+import sqlite3
+
+import pytest
+
+from honebench.core.records import Mark
+from honebench.core.sets import load_set
+from honebench.core.store import SCHEMA_VERSION, Store, StoreError
+
+
+@pytest.fixture
+def routing(sample_dir):
+    return load_set(sample_dir / "passenger_desk_routing.csv")
+
+
+def test_new_file_has_schema_version_and_wal(tmp_path):
+    store = Store(tmp_path / "p.hone")
+    conn = sqlite3.connect(tmp_path / "p.hone")
+    assert conn.execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION
+    assert conn.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
+    store.close()
+
+
+def test_set_round_trips_with_items_and_split(tmp_path, routing):
+    store = Store(tmp_path / "p.hone")
+    set_id = store.add_set(routing)
+    assert store.add_set(routing) == set_id  # same content, same split: same row
+    store.close()
+    again = Store(tmp_path / "p.hone").get_set(set_id)
+    assert again.content_hash == routing.content_hash
+    assert again.items == routing.items
+    assert [i.id for i in again.held_out()] == [i.id for i in routing.held_out()]
+
+
+def test_shelf_numbers_versions_and_records_decisions(tmp_path):
+    store = Store(tmp_path / "p.hone")
+    v1 = store.add_wording("Route it.", "before")
+    v2 = store.add_wording("Route it well.", "before", parent_id=v1.id, origin="rephrase")
+    assert (v1.label, v2.label, v2.parent_id) == ("v1", "v2", v1.id)
+    store.decide(v2.id, "set_aside", "too long")
+    store.set_note(v1.id, "first try")
+    store.close()
+    reopened = Store(tmp_path / "p.hone")
+    shelf = {e.label: e for e in reopened.shelf()}
+    assert shelf["v2"].decision == "set_aside" and shelf["v1"].note == "first try"
+    rows = sqlite3.connect(tmp_path / "p.hone").execute(
+        "SELECT verdict, note FROM decisions").fetchall()
+    assert rows == [("set_aside", "too long")]
+    with pytest.raises(ValueError, match="verdict"):
+        reopened.decide(v1.id, "maybe")
+
+
+def test_marks_survive_a_run_that_never_finished(tmp_path, routing):
+    store = Store(tmp_path / "p.hone")
+    set_id = store.add_set(routing)
+    run = store.start_run(set_id=set_id, wording_text="w", placement="before", split="tuning",
+                          fingerprint="fp", params={}, check={}, n_items=3)
+    store.add_mark(run, Mark(item_id="a", output="x", extracted="x", passed=True, why="ok"), 0)
+    # no finish_run: as after a crash; a fresh connection still finds the mark
+    fresh = Store(tmp_path / "p.hone")
+    assert [m.item_id for m in fresh.marks(run)] == ["a"]
+    assert fresh.run(run).status == "running"
+
+
+def test_newer_schema_is_refused(tmp_path):
+    path = tmp_path / "future.hone"
+    conn = sqlite3.connect(path)
+    conn.execute(f"PRAGMA user_version={SCHEMA_VERSION + 1}")
+    conn.close()
+    with pytest.raises(StoreError, match="newer honebench"):
+        Store(path)
+
+
+def test_a_file_that_is_not_sqlite_is_refused_clearly(tmp_path):
+    path = tmp_path / "notes.hone"
+    path.write_text("shopping list\n" * 100)
+    with pytest.raises(StoreError, match="not a honebench project file"):
+        Store(path)
+    assert path.read_text().startswith("shopping list")  # untouched
