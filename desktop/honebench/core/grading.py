@@ -74,6 +74,16 @@ def select_items(qset: QuestionSet, split: str) -> tuple[Item, ...]:
     raise ValueError(f"split must be tuning, held_out or all, not {split!r}")
 
 
+@dataclass(frozen=True)
+class Plan:
+    """One wording to grade over some items, as part of a batch of runs."""
+
+    wording: Wording
+    items: tuple[Item, ...]
+    split: str = "tuning"
+    wording_id: int | None = None
+
+
 class Grader:
     """Runs wordings over items with one engine, saving into one project file."""
 
@@ -85,47 +95,69 @@ class Grader:
               items: Sequence[Item] | None = None, wording_id: int | None = None,
               on_mark: Callable[[Mark, Progress], None] | None = None,
               cancel: threading.Event | None = None) -> RunOutcome:
+        """One grade run of one wording."""
         items = tuple(items if items is not None else select_items(qset, split))
+        plan = Plan(wording, items, split, wording_id)
+        relay = (lambda _i, mark, prog: on_mark(mark, prog)) if on_mark else None
+        return self.grade_many(set_id=set_id, qset=qset, plans=[plan], check=check,
+                               params=params, on_mark=relay, cancel=cancel)[0]
+
+    def grade_many(self, *, set_id: int, qset: QuestionSet, plans: Sequence[Plan],
+                   check: CheckSpec, params: Params = Params(),
+                   on_mark: Callable[[int, Mark, Progress], None] | None = None,
+                   cancel: threading.Event | None = None) -> list[RunOutcome]:
+        """Several grade runs fed to the engine as one stream, so it never waits between
+        them. ``on_mark`` gets the plan's index, the mark and the progress over all plans."""
         if not check.labels and check.kind == "label":
             check = replace(check, labels=tuple(qset.labels()))
         fingerprint = self.engine.fingerprint()
-        run_id = self.store.start_run(
-            set_id=set_id, wording_text=wording.text, placement=wording.placement, split=split,
-            fingerprint=fingerprint, params=params.as_dict(), check=check.as_dict(),
-            n_items=len(items), wording_id=wording_id)
         cancel = cancel or threading.Event()
-        tally = _Tally(len(items))
-        marks: list[Mark] = []
+        tally = _Tally(sum(len(p.items) for p in plans))
+        runs = [_Run(self.store.start_run(
+            set_id=set_id, wording_text=p.wording.text, placement=p.wording.placement,
+            split=p.split, fingerprint=fingerprint, params=params.as_dict(),
+            check=check.as_dict(), n_items=len(p.items), wording_id=p.wording_id), p)
+            for p in plans]
 
-        def record(item: Item, result: Result, prompt: str) -> None:
+        def record(index: int, item: Item, result: Result, prompt: str) -> None:
+            run = runs[index]
             mark = _mark(item, result, prompt, check)
-            self.store.add_mark(run_id, mark, len(marks))
-            marks.append(mark)
+            self.store.add_mark(run.id, mark, len(run.marks))
+            run.marks.append(mark)
             tally.add(mark)
             if on_mark:
-                on_mark(mark, tally.progress())
+                on_mark(index, mark, tally.progress())
 
-        status = "failed"
         try:
-            pending = self._answer_from_cache(items, wording, params, fingerprint, record)
-            requests = [] if cancel.is_set() else [req for _, req, _, _ in pending]
-            by_key = {req.key: (item, prompt, key) for item, req, prompt, key in pending}
+            pending = []
+            for index, run in enumerate(runs):
+                pending += self._answer_from_cache(index, run.plan, params, fingerprint, record)
+            requests = [] if cancel.is_set() else [req for _, _, req, _, _ in pending]
+            by_key = {req.key: (index, item, prompt, key)
+                      for index, item, req, prompt, key in pending}
             with _CancelWatcher(cancel, self.engine):
                 for result in self.engine.complete(requests):
-                    item, prompt, key = by_key[result.key]
+                    index, item, prompt, key = by_key[result.key]
                     if result.error is None:
                         self._remember(key, fingerprint, params, prompt, result)
-                    record(item, result, prompt)
                     tally.model_calls += 1
+                    runs[index].calls += 1
+                    record(index, item, result, prompt)
                     if cancel.is_set():
                         break
-            status = "cancelled" if cancel.is_set() and len(marks) < len(items) else "finished"
         finally:
-            self.store.finish_run(run_id, status)
-        return RunOutcome(run_id, status, tuple(marks), tally.elapsed(), tally.model_calls)
+            for run in runs:
+                run.status = ("cancelled" if cancel.is_set() and len(run.marks) < len(run.plan.items)
+                              else "finished" if len(run.marks) == len(run.plan.items)
+                              else "failed")
+                self.store.finish_run(run.id, run.status)
+        return [RunOutcome(r.id, r.status, tuple(r.marks), tally.elapsed(), r.calls)
+                for r in runs]
 
-    def _answer_from_cache(self, items, wording, params, fingerprint, record):
-        """Record cached answers at once; return (item, request, prompt, key) for the rest."""
+    def _answer_from_cache(self, index: int, plan: Plan, params, fingerprint, record):
+        """Record cached answers at once; return (index, item, request, prompt, key) for
+        the rest."""
+        items, wording = plan.items, plan.wording
         names = list(items[0].fields) if items else []
         prefix = shared_prefix_chars(self.engine, wording, names)
         pending = []
@@ -136,13 +168,13 @@ class Grader:
             key = cache_key(fingerprint, replace(params, seed=seed), prompt)
             hit = self.store.cache_get(key)
             if hit is not None:
-                record(item, Result(key=item.id, text=hit["text"], cached=True,
-                                    prompt_tokens=hit["prompt_tokens"],
-                                    completion_tokens=hit["completion_tokens"],
-                                    finish_reason=hit["finish_reason"]), prompt)
+                record(index, item, Result(key=item.id, text=hit["text"], cached=True,
+                                           prompt_tokens=hit["prompt_tokens"],
+                                           completion_tokens=hit["completion_tokens"],
+                                           finish_reason=hit["finish_reason"]), prompt)
                 continue
-            pending.append((item, Request(
-                key=item.id, messages=built.messages, prefill=built.prefill,
+            pending.append((index, item, Request(
+                key=f"{index}\x1f{item.id}", messages=built.messages, prefill=built.prefill,
                 max_tokens=params.max_tokens, stop=params.stop,
                 temperature=params.temperature, seed=seed, prefix_chars=prefix), prompt, key))
         return pending
@@ -166,6 +198,14 @@ def _mark(item: Item, result: Result, prompt: str, check: CheckSpec) -> Mark:
                 passed=verdict.passed, why=verdict.why, score=verdict.score,
                 prompt_tokens=result.prompt_tokens, completion_tokens=result.completion_tokens,
                 seconds=result.seconds, cached=result.cached, prompt=prompt)
+
+
+class _Run:
+    def __init__(self, run_id: int, plan: Plan):
+        self.id, self.plan = run_id, plan
+        self.marks: list[Mark] = []
+        self.calls = 0
+        self.status = "running"
 
 
 class _Tally:
