@@ -55,6 +55,50 @@ def build_parser() -> argparse.ArgumentParser:
     b.add_argument("--items", type=int, default=24, help="items per timing (default 24)")
     b.add_argument("--model", help="GGUF file (default: the bundled model)")
 
+    from .core.suggest.strategies import STRATEGIES
+
+    s = verbs.add_parser("suggest", help="ask the model for scored variants of a wording")
+    s.add_argument("project", help=f"project file ({PROJECT_SUFFIX})")
+    s.add_argument("--strategy", choices=STRATEGIES, default="scoreboard")
+    s.add_argument("--count", type=int, default=4, help="variants to ask for")
+    s.add_argument("--base", metavar="VERSION", help="start from this shelf version (default: "
+                   "the draft)")
+    s.add_argument("--other", metavar="VERSION", help="second version, for blend")
+    s.add_argument("--proposal-temperature", type=float, default=1.0)
+    s.add_argument("--keep-best", action="store_true",
+                   help="keep the top suggestion if it beats the current wording")
+    _engine_args(s)
+    s.add_argument("--json", action="store_true")
+
+    h = verbs.add_parser("hone", help="run rounds of suggestions unattended")
+    h.add_argument("project")
+    h.add_argument("--rounds", type=int, default=5)
+    h.add_argument("--count", type=int, default=4, help="suggestions per round")
+    h.add_argument("--strategy", choices=STRATEGIES, default="scoreboard")
+    h.add_argument("--patience", type=int, default=3, help="stop after N rounds without gain")
+    h.add_argument("--seconds", type=float, help="time budget")
+    h.add_argument("--model-calls", type=int, help="model-call budget")
+    _engine_args(h)
+    h.add_argument("--json", action="store_true")
+
+    c = verbs.add_parser("confirm", help="grade a shelf version on the held-out items")
+    c.add_argument("project")
+    c.add_argument("version", help="e.g. v3")
+    _engine_args(c)
+
+    cmp_ = verbs.add_parser("compare", help="two shelf versions on the same items")
+    cmp_.add_argument("project")
+    cmp_.add_argument("first")
+    cmp_.add_argument("second")
+    cmp_.add_argument("--split", choices=("tuning", "held_out"), default="tuning")
+
+    e = verbs.add_parser("export", help="write the report, all marks, or the chosen wording")
+    e.add_argument("project")
+    e.add_argument("--html", type=Path, help="one self-contained HTML report")
+    e.add_argument("--csv", type=Path, help="every mark of every run")
+    e.add_argument("--text", type=Path, help="the chosen wording alone")
+    e.add_argument("--version", help="the version to report as chosen (default: the best)")
+
     ui = verbs.add_parser("gui", help="open the desktop window")
     ui.add_argument("source", nargs="?", help="project file or question set to open")
     ui.add_argument("--snapshot", type=Path, help="save a picture of the window and exit")
@@ -66,7 +110,7 @@ def _engine_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--model", help="GGUF model file (default: bundled SmolLM2-135M-Instruct)")
     p.add_argument("--endpoint", help="OpenAI-protocol endpoint URL, e.g. http://127.0.0.1:8080/v1")
     p.add_argument("--endpoint-model", default="", help="model name to ask the endpoint for")
-    p.add_argument("--max-tokens", type=int, default=48)
+    p.add_argument("--max-tokens", type=int, default=32)
     p.add_argument("--temperature", type=float, default=0.0)
     p.add_argument("--seed", type=int, default=0)
 
@@ -78,6 +122,16 @@ def main(argv: list[str] | None = None) -> int:
             return _gui(args)
         if args.verb == "grade":
             return _grade(args)
+        if args.verb in ("suggest", "hone", "confirm"):
+            from . import commands
+            engine = open_engine(args)
+            try:
+                return getattr(commands, f"{args.verb}_verb")(args, engine)
+            finally:
+                engine.close()
+        if args.verb in ("compare", "export"):
+            from . import commands
+            return getattr(commands, f"{args.verb}_verb")(args)
         if args.verb == "bench":
             from .core.bench import run_bench
             return run_bench(set_path=args.set_path, items=args.items, model=args.model)

@@ -57,6 +57,18 @@ MIGRATIONS: tuple[str, ...] = (
         completion_tokens INTEGER NOT NULL, seconds REAL NOT NULL,
         finish_reason TEXT NOT NULL, created_at TEXT NOT NULL);
     """,
+    # 2: auto-hone sessions and their rounds
+    """
+    CREATE TABLE hone_sessions (
+        id INTEGER PRIMARY KEY, strategy TEXT NOT NULL, budget TEXT NOT NULL,
+        started_at TEXT NOT NULL, finished_at TEXT, stop_reason TEXT NOT NULL DEFAULT '');
+    CREATE TABLE hone_rounds (
+        session_id INTEGER NOT NULL REFERENCES hone_sessions(id), number INTEGER NOT NULL,
+        best_text TEXT NOT NULL, best_passed INTEGER NOT NULL, best_total INTEGER NOT NULL,
+        kept_id INTEGER REFERENCES wordings(id), held_passed INTEGER, held_total INTEGER,
+        suggestions INTEGER NOT NULL, dropped INTEGER NOT NULL, model_calls INTEGER NOT NULL,
+        seconds REAL NOT NULL, at TEXT NOT NULL, PRIMARY KEY (session_id, number));
+    """,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 PROJECT_SUFFIX = ".hone"
@@ -285,6 +297,31 @@ class Store:
     def latest_run(self) -> RunInfo | None:
         row = self._conn().execute("SELECT * FROM runs ORDER BY id DESC LIMIT 1").fetchone()
         return None if row is None else _run(row)
+
+    # -- auto-hone -------------------------------------------------------------------------
+    def start_hone(self, *, strategy: str, budget: dict) -> int:
+        with self._tx() as c:
+            return c.execute("INSERT INTO hone_sessions(strategy, budget, started_at) "
+                             "VALUES(?,?,?)", (strategy, json.dumps(budget), now())).lastrowid
+
+    def add_hone_round(self, session: int, rnd) -> None:
+        held = rnd.held_out
+        with self._tx() as c:
+            c.execute(
+                "INSERT INTO hone_rounds VALUES(?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                (session, rnd.number, rnd.best_text, rnd.best_tuning.passed,
+                 rnd.best_tuning.total, rnd.kept_id, held.passed if held else None,
+                 held.total if held else None, rnd.suggestions, rnd.dropped, rnd.model_calls,
+                 rnd.seconds, now()))
+
+    def finish_hone(self, session: int, reason: str) -> None:
+        with self._tx() as c:
+            c.execute("UPDATE hone_sessions SET finished_at=?, stop_reason=? WHERE id=?",
+                      (now(), reason, session))
+
+    def hone_rounds(self, session: int) -> list[sqlite3.Row]:
+        return list(self._conn().execute(
+            "SELECT * FROM hone_rounds WHERE session_id=? ORDER BY number", (session,)))
 
     # -- completion cache ----------------------------------------------------------------
     def cache_get(self, key: str) -> sqlite3.Row | None:
