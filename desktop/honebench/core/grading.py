@@ -135,6 +135,7 @@ class Grader:
             requests = [] if cancel.is_set() else [req for _, _, req, _, _ in pending]
             by_key = {req.key: (index, item, prompt, key)
                       for index, item, req, prompt, key in pending}
+            tally.model_start = time.perf_counter()
             with _CancelWatcher(cancel, self.engine):
                 for result in self.engine.complete(requests):
                     index, item, prompt, key = by_key[result.key]
@@ -213,6 +214,7 @@ class _Tally:
         self.total, self.done, self.passed, self.cached, self.model_calls = total, 0, 0, 0, 0
         self.model_seconds = 0.0
         self.start = time.perf_counter()
+        self.model_start: float | None = None
 
     def add(self, mark: Mark) -> None:
         self.done += 1
@@ -224,10 +226,13 @@ class _Tally:
         return time.perf_counter() - self.start
 
     def progress(self) -> Progress:
+        """ETA from the wall-clock rate of model answers so far (several items may be
+        decoded at once, so summing per-item seconds would overstate it)."""
         timed = self.done - self.cached
         eta = None
-        if timed > 0:
-            eta = (self.total - self.done) * (self.model_seconds / timed)
+        if timed > 0 and self.model_start is not None:
+            rate = (time.perf_counter() - self.model_start) / timed
+            eta = (self.total - self.done) * rate
         elif self.done == self.total:
             eta = 0.0
         return Progress(self.done, self.total, self.passed, self.cached, self.elapsed(), eta)
