@@ -49,9 +49,9 @@ def suggest_verb(args, engine) -> int:
     kept = None
     if args.keep_best and outcome.cards and outcome.cards[0].score.rate > outcome.base_score.rate:
         top = outcome.cards[0]
-        parent = project.store.find_wording(outcome.base.text, outcome.base.placement)
+        parent = project.keep(outcome.base)  # the wording it came from goes on the shelf too
         kept = project.keep(Wording(top.text, top.placement), origin=top.strategy,
-                            parent_id=parent.id if parent else None, inputs=top.inputs).label
+                            parent_id=parent.id, inputs=top.inputs).label
     if args.json:
         print(json.dumps([{
             "wording": c.text, "placement": c.placement, "score": c.score.rate,

@@ -7,11 +7,11 @@ from __future__ import annotations
 import random
 import re
 
-_SPLIT = re.compile(r"(?<=[.!?;:,])\s+")
+_SPLIT = re.compile(r"(?<=[.!?;])\s+")
 
 
 def phrases(text: str) -> list[str]:
-    """Sentence and clause pieces, split after punctuation."""
+    """Sentences, split after . ! ? and ; (commas and colons stay inside a phrase)."""
     return [p for p in _SPLIT.split(text.strip()) if p]
 
 

@@ -18,7 +18,7 @@ from ..grading import Grader, Plan
 from ..records import Mark
 from ..stats import Paired, Score, paired_exact, score
 from ..wording import Wording
-from .cleaning import find_duplicate
+from .cleaning import DUPLICATE_SIMILARITY, find_duplicate
 from .strategies import STRATEGY_LABELS, SuggestContext, propose
 
 EARLY_RULE = ("Early stop: after the first {n} tuning items, a suggestion is dropped when even "
@@ -128,8 +128,12 @@ def suggest(project, engine, strategy: str, *, count: int = 4, base: Wording | N
     known = [(e.label, e.text) for e in project.store.shelf()] + [("the current wording", base.text)]
     questions = [("a tuning item", " ".join(map(str, it.fields.values()))) for it in tuning]
     fresh: list = []
+    # Phrase edits are real edits by construction, often a few characters apart: for them
+    # only an exact repeat (after normalising) counts as a duplicate.
+    threshold = 100.0 if strategy == "phrase-edits" else DUPLICATE_SIMILARITY
     for prop in batch.proposals:
-        dup = find_duplicate(prop.text, known + [("another suggestion", p.text) for p in fresh])
+        dup = find_duplicate(prop.text, known + [("another suggestion", p.text) for p in fresh],
+                             threshold)
         copied = find_duplicate(prop.text, questions, threshold=80.0)
         if copied:
             outcome.dropped.append("copied a question instead of writing an instruction")
