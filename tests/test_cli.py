@@ -83,3 +83,34 @@ def test_readme_test_command_is_what_ci_runs():
                 if line.strip()]
     assert len(commands) == 2 and "gui" in commands[0] and "pytest" in commands[1]
     assert commands[1] in (ROOT / ".ci" / "run").read_text().splitlines()
+
+
+@pytest.mark.model
+def test_suggest_confirm_compare_export_on_a_small_project(tmp_path, sample_dir):
+    lines = (sample_dir / "passenger_desk_routing.csv").read_text().splitlines()[:17]
+    small = tmp_path / "small.csv"
+    small.write_text("\n".join(lines) + "\n")
+    honebench("grade", small, "--wording", "Name the desk. Reply with one word.",
+              "--placement", "before", "--check", "label", "--max-tokens", "8", home=tmp_path)
+    project = tmp_path / "projects" / "small.hone"
+    cards = json.loads(honebench("suggest", project, "--strategy", "phrase-edits", "--count",
+                                 "2", "--max-tokens", "8", "--json", home=tmp_path).stdout)
+    assert isinstance(cards, list) and cards
+    for card in cards:
+        assert set(card) >= {"wording", "score", "interval", "fixed", "broken", "strategy"}
+        assert card["strategy"] == "phrase-edits" and card["total"] == 11
+    from honebench.core.project import Project
+    from honebench.core.wording import Wording
+
+    p = Project(project)
+    p.keep(p.draft())
+    p.keep(Wording(cards[0]["wording"], "before"), origin="phrase-edits")
+    p.close()
+    out = honebench("confirm", project, "v1", "--max-tokens", "8", home=tmp_path).stdout
+    assert "held-out items" in out and "/5" in out
+    out = honebench("compare", project, "v1", "v2", home=tmp_path).stdout
+    assert "On the same 11 items" in out
+    report = tmp_path / "r.html"
+    honebench("export", project, "--html", report, "--text", tmp_path / "w.txt", home=tmp_path)
+    assert "<html" in report.read_text().lower()
+    assert (tmp_path / "w.txt").read_text().strip()
