@@ -307,9 +307,9 @@ class MainWindow(QMainWindow):
                                               str(Path(start) / "marks.csv"), "CSV files (*.csv)")
         if path:
             self.settings.setValue("export/last_dir", str(Path(path).parent))
-            expected = dict(self.state.expected) if self.state else {}
+            project, run_id = self.state.project, self.state.last_run.id
             self.runner.submit(
-                lambda ctx: tasks.export_marks(path, marks, expected),
+                lambda ctx: tasks.export_marks(project, path, run_id),
                 done=lambda n: self.statusBar().showMessage(f"Wrote {n} marks to {path}"),
                 name="export the marks")
 

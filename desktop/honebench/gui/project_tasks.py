@@ -156,19 +156,12 @@ def set_note(project: Project, wording_id: int, note: str) -> list[ShelfRow]:
     return project.shelf_rows()
 
 
-def export_marks(path: str, marks: list[Mark], expected: dict[str, str]) -> int:
-    """Write marks as CSV (UTF-8, one row per item); returns the number of rows."""
-    import pandas as pd
+def export_marks(project: Project, path: str, run_id: int) -> int:
+    """Write one run's marks as CSV (RFC 4180 quoting); returns the number of rows."""
+    from honebench.core.report import write_marks_csv
 
-    rows = []
-    for mark in marks:
-        row = mark.as_dict()
-        row["expected"] = expected.get(mark.item_id, "")
-        rows.append(row)
-    columns = ["id", "passed", "expected", "extracted", "why", "output", "tokens",
-               "prompt_tokens", "completion_tokens", "seconds", "cached", "error", "score"]
-    pd.DataFrame(rows, columns=columns).to_csv(path, index=False, encoding="utf-8")
-    return len(rows)
+    write_marks_csv(project, path, run_id=run_id)
+    return project.store.run_counts(run_id)[1]
 
 
 def run_caption(run: RunInfo | None, graded: int | None = None) -> str:
