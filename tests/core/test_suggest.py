@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from honebench.core.suggest.cleaning import clean_reply, find_duplicate
+from honebench.core.suggest.cleaning import clean_reply
 from honebench.core.suggest.phrase_edits import phrase_edits, phrases
 from honebench.core.suggest.pipeline import suggest
 from honebench.core.suggest.strategies import STRATEGIES

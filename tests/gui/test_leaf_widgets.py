@@ -17,8 +17,9 @@ from honebench.core.sets import ColumnMapping, load_set, preview
 from honebench.core.stats import score
 from honebench.gui.item_view import ItemView
 from honebench.gui.mapping_dialog import MappingDialog
-from honebench.gui.shelf_panel import (CAUTION_TEXT, EMPTY_TEXT, ID_ROLE, TUNING, VERSION,
-                                       ShelfPanel, score_cell)
+from honebench.gui.shelf_model import (CAUTION_TEXT, EMPTY_TEXT, ID_ROLE, TUNING, VERSION,
+                                       score_cell)
+from honebench.gui.shelf_panel import ShelfPanel
 
 TEXTS = {
     1: "Which department should handle this message? Reply with one word.",
