@@ -17,6 +17,7 @@ from PySide6.QtWidgets import QApplication
 from ..core.project import default_project_path, projects_dir
 from ..core.store import PROJECT_SUFFIX
 from .jobs import JobRunner
+from .confirm_attach import attach_compare_and_confirm
 from .main_window import MainWindow
 from .project_tasks import DEMO_NAME
 
@@ -57,6 +58,7 @@ def run_app(source=None, snapshot: Path | None = None, grade: bool = False) -> i
     settings = QSettings()
     runner = JobRunner()
     window = MainWindow(runner, settings, quiet=snapshot is not None)
+    attach_compare_and_confirm(window)
     window.grade_limit = grade_limit()
     try:
         open_source(window, settings, source)
