@@ -19,6 +19,7 @@ from ..core.store import PROJECT_SUFFIX
 from .jobs import JobRunner
 from .confirm_attach import attach_compare_and_confirm
 from .main_window import MainWindow
+from .suggest_attach import attach_suggestions
 from .project_tasks import DEMO_NAME
 
 ORG = APP = "honebench"
@@ -59,6 +60,7 @@ def run_app(source=None, snapshot: Path | None = None, grade: bool = False) -> i
     runner = JobRunner()
     window = MainWindow(runner, settings, quiet=snapshot is not None)
     attach_compare_and_confirm(window)
+    attach_suggestions(window)
     window.grade_limit = grade_limit()
     try:
         open_source(window, settings, source)

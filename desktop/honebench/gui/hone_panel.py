@@ -1,0 +1,388 @@
+"""Auto-hone: rounds of suggestions run unattended, with a live table of rounds and a
+progress chart (best tuning score per round, held-out score of each kept version).
+Every round is committed by the core as it finishes, so cancel keeps what is done."""
+from __future__ import annotations
+
+import html
+from typing import Callable
+
+from PySide6.QtCharts import (QChart, QChartView, QLineSeries, QScatterSeries, QValueAxis)
+from PySide6.QtCore import QEvent, QMargins, QPointF, Qt, Signal
+from PySide6.QtGui import QPainter, QPalette, QPen
+from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QFrame, QGridLayout, QHBoxLayout,
+                               QHeaderView, QLabel, QProgressBar, QPushButton, QScrollArea, QSpinBox,
+                               QSplitter, QTableWidget, QTableWidgetItem, QVBoxLayout, QWidget)
+
+from ..core.hone import HoneBudget, HoneOutcome, HoneRound, hone
+from ..core.stats import Score, score
+from ..core.suggest.pipeline import base_marks
+from ..core.suggest.strategies import STRATEGIES, STRATEGY_LABELS
+from ..core.wording import Wording
+from .jobs import Job, JobRunner
+from .shelf_model import score_cell
+from .suggest_panel import small
+
+COLUMNS = ("round", "best on tuning items", "kept", "held-out of kept")
+TIPS = ("the round number; “start” is the wording auto-hone began from",
+        "the best wording so far: pass rate on the tuning items, 95% interval, item count",
+        "the shelf version kept this round, if a suggestion beat the best so far",
+        "the kept version graded on the held-out items (measured, never used to choose)")
+EXPLAIN = ("Each round keeps its best suggestion only if it beats the best so far on tuning "
+           "items. Held-out items only check kept versions.")
+
+
+def run_hone(project, handle, wording: Wording, strategy: str, budget: HoneBudget, params,
+             ctx) -> tuple[HoneOutcome, list]:
+    """The auto-hone job: reports ("start", Score), ("round", HoneRound, label, rows) and
+    ("progress", stage, done, total); returns (outcome, shelf rows)."""
+    with handle as engine:
+        _, marks = base_marks(project, engine, wording, params, ctx.cancel_event)
+        ctx.report(("start", score(sum(m.passed for m in marks), len(marks))))
+
+        def on_round(rnd: HoneRound) -> None:
+            label = project.store.wording(rnd.kept_id).label if rnd.kept_id else ""
+            ctx.report(("round", rnd, label, project.shelf_rows()))
+
+        outcome = hone(project, engine, strategy=strategy, budget=budget, start=wording,
+                       params=params, on_round=on_round, cancel=ctx.cancel_event,
+                       progress=lambda stage, done, total: ctx.report(
+                           ("progress", stage, done, total)))
+    return outcome, project.shelf_rows()
+
+
+class HoneChart(QChartView):
+    """Best tuning score per round (line with round dots) and the held-out score of each
+    kept version (squares). Colours come from the chart theme chosen by palette lightness;
+    the two series also differ in shape."""
+
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.setAccessibleName("Progress chart: best tuning score per round and held-out "
+                               "scores of kept versions")
+        self.setRenderHint(QPainter.RenderHint.Antialiasing)
+        self.setMinimumHeight(170)
+        chart = QChart()
+        chart.setMargins(QMargins(2, 2, 2, 2))
+        chart.layout().setContentsMargins(0, 0, 0, 0)
+        chart.legend().setAlignment(Qt.AlignmentFlag.AlignBottom)
+        self.tuning = QLineSeries()
+        self.tuning.setName("best, tuning items")
+        self.tuning.setPointsVisible(True)
+        self.held = QScatterSeries()
+        self.held.setName("held-out, kept version")
+        self.held.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeRectangle)
+        self.held.setMarkerSize(10)
+        chart.addSeries(self.tuning)
+        chart.addSeries(self.held)
+        self.x_axis, self.y_axis = QValueAxis(), QValueAxis()
+        self.x_axis.setTitleText("round (0 = start)")
+        self.setToolTip("Line with dots: the best wording's tuning score after each round.\n"
+                        "Squares: each kept version graded on the held-out items.")
+        self.x_axis.setLabelFormat("%d")
+        self.y_axis.setTitleText("pass %")
+        self.y_axis.setLabelFormat("%d")
+        self.y_axis.setRange(0, 100)
+        self.y_axis.setTickCount(6)
+        chart.addAxis(self.x_axis, Qt.AlignmentFlag.AlignBottom)
+        chart.addAxis(self.y_axis, Qt.AlignmentFlag.AlignLeft)
+        for series in (self.tuning, self.held):
+            series.attachAxis(self.x_axis)
+            series.attachAxis(self.y_axis)
+        self.setChart(chart)
+        self.set_rounds(5)
+        self.follow_palette()
+
+    def set_rounds(self, rounds: int) -> None:
+        self.x_axis.setRange(0, max(rounds, 1))
+        self.x_axis.setTickCount(min(max(rounds, 1), 10) + 1)
+
+    def clear(self) -> None:
+        self.tuning.clear()
+        self.held.clear()
+
+    def add_tuning(self, x: int, s: Score) -> None:
+        self.tuning.append(QPointF(x, s.rate * 100))
+
+    def add_held_out(self, x: int, s: Score) -> None:
+        self.held.append(QPointF(x, s.rate * 100))
+
+    def follow_palette(self) -> None:
+        palette = self.palette()
+        chart = self.chart()
+        dark = palette.color(QPalette.ColorRole.Window).lightness() < 128
+        chart.setTheme(QChart.ChartTheme.ChartThemeDark if dark else QChart.ChartTheme.ChartThemeLight)
+        text = palette.color(QPalette.ColorRole.WindowText)
+        chart.setBackgroundBrush(palette.brush(QPalette.ColorRole.Base))
+        chart.setPlotAreaBackgroundVisible(False)
+        chart.setTitleBrush(text)
+        chart.legend().setLabelColor(text)
+        for axis in (self.x_axis, self.y_axis):
+            axis.setLabelsColor(text)
+            axis.setTitleBrush(text)
+        pen = QPen(self.tuning.pen())
+        pen.setWidthF(2.0)
+        self.tuning.setPen(pen)
+        self.setBackgroundBrush(palette.brush(QPalette.ColorRole.Window))
+
+    def changeEvent(self, event):
+        if event.type() == QEvent.Type.PaletteChange:
+            self.follow_palette()
+        super().changeEvent(event)
+
+
+class HonePanel(QWidget):
+    """Signals: ``shelf_changed(list[ShelfRow])`` after each round and at the end,
+    ``status(str)``, ``problem(title, message)``, ``running_changed(bool)``,
+    ``finished(HoneOutcome | None)``."""
+
+    shelf_changed = Signal(object)
+    status = Signal(str)
+    problem = Signal(str, str)
+    running_changed = Signal(bool)
+    finished = Signal(object)
+
+    def __init__(self, runner: JobRunner, *, state: Callable, engine: Callable, params: Callable,
+                 editor_wording: Callable[[], Wording], parent=None):
+        super().__init__(parent)
+        self.runner, self.state, self.engine, self.params = runner, state, engine, params
+        self.editor_wording = editor_wording
+        self.job: Job | None = None
+        self.outcome: HoneOutcome | None = None
+        self.rounds: list[HoneRound] = []
+        self.blocked_reason = ""
+
+        self.strategy = QComboBox()
+        for key in STRATEGIES:
+            if key == "blend":  # blend needs a second entry chosen by hand
+                continue
+            label = STRATEGY_LABELS[key]
+            self.strategy.addItem(label[0].upper() + label[1:], key)
+        self.strategy.setAccessibleName("Auto-hone strategy")
+        self.strategy.setToolTip("How each round asks for suggestions")
+        self.rounds_spin = self._spin(1, 100, 5, "Rounds", "At most this many rounds")
+        self.per_round = self._spin(1, 12, 4, "Suggestions per round",
+                                    "Suggestions asked for in each round")
+        self.patience = self._spin(1, 100, 3, "Patience",
+                                   "Stop after this many rounds in a row without improvement")
+        self.minutes = self._spin(0, 24 * 60, 0, "Time budget in minutes",
+                                  "Stop once this much time has passed", "no limit", " min")
+        self.calls = self._spin(0, 1_000_000, 0, "Model-call budget",
+                                "Stop once this many model calls were made", "no limit",
+                                " calls")
+        self.calls.setSingleStep(50)
+        self.start_button = QPushButton("&Start auto-hone")
+        self.start_button.setAccessibleName("Start auto-hone")
+        self.cancel_button = QPushButton("Cancel")
+        self.cancel_button.setAccessibleName("Cancel auto-hone; finished rounds are kept")
+        self.cancel_button.setToolTip("Stop; every finished round stays on the shelf")
+        self.cancel_button.setEnabled(False)
+        self.explain = small(QLabel(EXPLAIN))
+        self.progress = QProgressBar()
+        self.progress.setAccessibleName("Auto-hone progress")
+        self.stage = small(QLabel())
+        self.stage.setAccessibleName("Auto-hone stage")
+        self.result = QLabel()
+        self.result.setWordWrap(True)
+        self.result.setAccessibleName("Auto-hone outcome")
+
+        self.table = QTableWidget(0, len(COLUMNS))
+        self.table.setAccessibleName("Auto-hone rounds")
+        self.table.setHorizontalHeaderLabels(list(COLUMNS))
+        for col, tip in enumerate(TIPS):
+            self.table.horizontalHeaderItem(col).setToolTip(tip)
+        self.table.verticalHeader().setVisible(False)
+        self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.table.setAlternatingRowColors(True)
+        self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        self.table.horizontalHeader().setStretchLastSection(True)
+        self.chart = HoneChart()
+
+        grid = QGridLayout()
+        grid.setContentsMargins(0, 0, 0, 0)
+        cells = (("S&trategy", self.strategy, 0, 0), ("&Rounds", self.rounds_spin, 1, 0),
+                 ("&Per round", self.per_round, 1, 2), ("Pat&ience", self.patience, 2, 0),
+                 ("Min&utes", self.minutes, 2, 2), ("&Model calls", self.calls, 3, 0))
+        for text, widget, row, col in cells:
+            label = QLabel(text)
+            label.setBuddy(widget)
+            label.setToolTip(widget.toolTip())
+            grid.addWidget(label, row, col)
+            grid.addWidget(widget, row, col + 1, 1, 3 if widget is self.strategy else 1)
+        grid.setColumnStretch(1, 1)
+        grid.setColumnStretch(3, 1)
+        buttons = QHBoxLayout()
+        buttons.addWidget(self.start_button)
+        buttons.addWidget(self.cancel_button)
+        buttons.addStretch(1)
+        split = QSplitter(Qt.Orientation.Vertical)
+        split.addWidget(self.table)
+        split.addWidget(self.chart)
+        split.setChildrenCollapsible(False)
+        split.setStretchFactor(0, 1)
+        split.setStretchFactor(1, 2)
+        body = QWidget()  # scrolls when the dock is short, so the window keeps its size
+        layout = QVBoxLayout(body)
+        layout.setContentsMargins(6, 6, 6, 6)
+        layout.addWidget(self.explain)
+        layout.addLayout(grid)
+        layout.addLayout(buttons)
+        layout.addWidget(self.progress)
+        layout.addWidget(self.stage)
+        layout.addWidget(self.result)
+        layout.addWidget(split, 1)
+        scroll = QScrollArea()
+        scroll.setWidgetResizable(True)
+        scroll.setFrameShape(QFrame.Shape.NoFrame)
+        scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        scroll.setWidget(body)
+        outer = QVBoxLayout(self)
+        outer.setContentsMargins(0, 0, 0, 0)
+        outer.addWidget(scroll)
+        self.start_button.clicked.connect(self.start)
+        self.cancel_button.clicked.connect(self.cancel)
+        self.rounds_spin.valueChanged.connect(self.chart.set_rounds)
+        self._show_idle()
+
+    def _spin(self, low: int, high: int, value: int, name: str, tip: str, special: str = "",
+              suffix: str = "") -> QSpinBox:
+        spin = QSpinBox()
+        spin.setToolTip(tip)
+        spin.setRange(low, high)
+        spin.setValue(value)
+        spin.setAccessibleName(name)
+        if special:
+            spin.setSpecialValueText(special)
+        if suffix:
+            spin.setSuffix(suffix)
+        return spin
+
+    def budget(self) -> HoneBudget:
+        return HoneBudget(rounds=self.rounds_spin.value(), per_round=self.per_round.value(),
+                          patience=self.patience.value(),
+                          seconds=self.minutes.value() * 60 if self.minutes.value() else None,
+                          model_calls=self.calls.value() or None)
+
+    # -- method calls down ---------------------------------------------------------------
+    def set_project(self, _state) -> None:
+        self.cancel()
+        self.set_blocked(self.blocked_reason)
+
+    def set_blocked(self, reason: str) -> None:
+        """No auto-hone while something else (the suggestions panel) drives the engine."""
+        self.blocked_reason = reason
+        if self.job is None:
+            self._show_idle()
+
+    def start(self) -> Job | None:
+        state, handle = self.state(), self.engine()
+        if self.job is not None or state is None:
+            return None
+        wording = self.editor_wording()
+        if state.qset is None or not wording.text.strip():
+            self.problem.emit("Nothing to hone", "Import a question set and write a wording "
+                              "in the editor first.")
+            return None
+        if handle is None:
+            self.problem.emit("No engine yet", "The model is still loading (or did not load); "
+                              "wait for “ready” in the engine bar, then try again.")
+            return None
+        project, strategy, budget, params = (state.project, self.strategy.currentData(),
+                                             self.budget(), self.params())
+        self.rounds, self.outcome = [], None
+        self.table.setRowCount(0)
+        self.chart.clear()
+        self.chart.set_rounds(budget.rounds)
+        self.result.setText("")
+        self.job = self.runner.submit(
+            lambda ctx: run_hone(project, handle, wording, strategy, budget, params, ctx),
+            done=self._finished, failed=self._failed, progress=self._progress,
+            cancelled=lambda: self._finished(None), name="auto-hone")
+        self._show_running()
+        return self.job
+
+    def cancel(self) -> None:
+        if self.job is not None:
+            self.job.cancel()
+            self.stage.setText("Cancelling… finished rounds are kept")
+
+    # -- reports from the job ------------------------------------------------------------
+    def _progress(self, payload) -> None:
+        kind = payload[0]
+        if kind == "start":
+            self._add_row("start", payload[1], "", None)
+            self.chart.add_tuning(0, payload[1])
+        elif kind == "round":
+            _, rnd, label, rows = payload
+            self.rounds.append(rnd)
+            self._add_row(str(rnd.number), rnd.best_tuning, label or "— (none better)",
+                          rnd.held_out)
+            self.chart.add_tuning(rnd.number, rnd.best_tuning)
+            if rnd.held_out is not None:
+                self.chart.add_held_out(rnd.number, rnd.held_out)
+            self.shelf_changed.emit(rows)
+        else:
+            _, stage, done, total = payload
+            n = len(self.rounds) + 1
+            self.progress.setRange(0, max(total, 1))
+            self.progress.setValue(min(done, max(total, 1)))
+            self.progress.setFormat(f"{done}/{total}")
+            self.stage.setText(f"Round {n} of {self.rounds_spin.value()}: {stage}")
+
+    def _add_row(self, name: str, best: Score, kept: str, held: Score | None) -> None:
+        row = self.table.rowCount()
+        self.table.insertRow(row)
+        cells = (name, score_cell(best), kept, score_cell(held) if held else "—")
+        for col, text in enumerate(cells):
+            item = QTableWidgetItem(text)
+            if col == 1:
+                item.setToolTip(best.text())
+            self.table.setItem(row, col, item)
+        self.table.scrollToBottom()
+
+    def _finished(self, result) -> None:
+        self.job = None
+        self._show_idle()
+        self.running_changed.emit(False)
+        if result is None:
+            self.result.setText("Cancelled before the first round; nothing changed.")
+            self.finished.emit(None)
+            return
+        outcome, rows = result
+        self.outcome = outcome
+        kept = [r for r in outcome.rounds if r.kept_id]
+        best = outcome.rounds[-1].best_tuning if outcome.rounds else None
+        text = f"<b>Stopped: {html.escape(outcome.stop_reason)}.</b> "
+        text += (f"{len(outcome.rounds)} round(s), {len(kept)} version(s) kept"
+                 + (f"; best on tuning items {html.escape(score_cell(best))}." if best else "."))
+        text += " Check kept versions on held-out items before trusting the gain."
+        self.result.setText(text)
+        self.shelf_changed.emit(rows)
+        self.status.emit(f"Auto-hone stopped: {outcome.stop_reason}")
+        self.finished.emit(outcome)
+
+    def _failed(self, message: str) -> None:
+        self.job = None
+        self._show_idle()
+        self.running_changed.emit(False)
+        self.result.setText(f"✗ Auto-hone stopped: {html.escape(message)} Finished rounds "
+                            "are kept on the shelf.")
+        self.problem.emit("Auto-hone stopped", message)
+        self.finished.emit(None)
+
+    def _show_running(self) -> None:
+        self.start_button.setEnabled(False)
+        self.cancel_button.setEnabled(True)
+        self.progress.setVisible(True)
+        self.progress.setRange(0, 0)
+        self.stage.setVisible(True)
+        self.stage.setText("Grading the starting wording…")
+        self.running_changed.emit(True)
+
+    def _show_idle(self) -> None:
+        self.start_button.setEnabled(not self.blocked_reason)
+        self.start_button.setToolTip(self.blocked_reason or "Run rounds of suggestions "
+                                     "unattended, starting from the editor's wording")
+        self.cancel_button.setEnabled(False)
+        self.progress.setVisible(False)
+        self.stage.setVisible(False)
