@@ -365,7 +365,7 @@ def test_check_not_json(server, make_engine):
 
 
 # --- the rest of the protocol ------------------------------------------------------------------
-def test_render_is_a_plain_transcript():
+def test_render_is_the_plain_conversation():
     engine = EndpointEngine("http://127.0.0.1:9/v1")
     text = engine.render([{"role": "system", "content": "Be brief."},
                           {"role": "user", "content": "When is the last ferry?"}], "Answer:")

@@ -9,7 +9,7 @@ from html.parser import HTMLParser
 from pathlib import Path
 
 import pytest
-from PySide6.QtCore import QSettings, Qt
+from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QGuiApplication, QPalette
 from PySide6.QtWidgets import QFileDialog
 
@@ -18,7 +18,6 @@ from honebench.core.report import SECTIONS
 from honebench.core.wording import Wording
 from honebench.gui.compare_tasks import EDITOR
 from honebench.gui.confirm_attach import BEST_TAG, CHECK_TAG, attach_compare_and_confirm
-from honebench.gui.jobs import JobRunner
 from honebench.gui.main_window import MainWindow
 from honebench.gui.shelf_model import VERSION
 
@@ -32,19 +31,6 @@ SNAP = Path("/tmp/snap")
 GOOD = ("Route this passenger message to one department: refund, booking_change, "
         "lost_property, accessibility or timetable. Reply with the department only.")
 POOR = "Reply with the single word refund, whatever the message says."
-
-
-@pytest.fixture
-def settings(tmp_path):
-    return QSettings(str(tmp_path / "settings.ini"), QSettings.Format.IniFormat)
-
-
-@pytest.fixture
-def runner(qtbot):
-    r = JobRunner()
-    yield r
-    r.cancel_all()
-    assert r.wait_idle(60_000), f"jobs left running: {r.active()}"
 
 
 def open_window(qtbot, runner, settings, path, engine=None):

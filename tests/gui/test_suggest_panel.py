@@ -8,9 +8,8 @@ import time
 from pathlib import Path
 
 import pytest
-from PySide6.QtCore import QSettings, Qt
+from PySide6.QtCore import Qt
 
-from honebench.gui.jobs import JobRunner
 from honebench.gui.main_window import MainWindow
 from honebench.gui.suggest_attach import attach_suggestions
 from tests.core.suggest_fixtures import small_project
@@ -35,19 +34,6 @@ def snap_dir() -> Path:
     path = Path(os.environ.get("HONEBENCH_SNAP_DIR") or "/tmp/snap")
     path.mkdir(parents=True, exist_ok=True)
     return path
-
-
-@pytest.fixture
-def settings(tmp_path):
-    return QSettings(str(tmp_path / "settings.ini"), QSettings.Format.IniFormat)
-
-
-@pytest.fixture
-def runner(qtbot):
-    r = JobRunner()
-    yield r
-    r.cancel_all()
-    assert r.wait_idle(60_000), f"jobs left running: {r.active()}"
 
 
 def _text(req) -> str:

@@ -6,33 +6,19 @@ import csv
 import time
 
 import pytest
-from PySide6.QtCore import QSettings, Qt, QTimer
+from PySide6.QtCore import Qt, QTimer
 from PySide6.QtWidgets import QFileDialog
 
 from honebench.core.checks import CheckSpec
 from honebench.core.project import Project
 from honebench.core.sets import ColumnMapping
 from honebench.gui import project_tasks as tasks
-from honebench.gui.jobs import JobRunner
 from honebench.gui.main_window import MainWindow
 
 from .pictures import non_blank
 
 pytestmark = pytest.mark.model
 MODEL_WAIT = 180_000  # ms; generous, the machine may be busy
-
-
-@pytest.fixture
-def settings(tmp_path):
-    return QSettings(str(tmp_path / "settings.ini"), QSettings.Format.IniFormat)
-
-
-@pytest.fixture
-def runner(qtbot):
-    r = JobRunner()
-    yield r
-    r.cancel_all()
-    assert r.wait_idle(60_000), f"jobs left running: {r.active()}"
 
 
 def new_window(qtbot, runner, settings) -> MainWindow:

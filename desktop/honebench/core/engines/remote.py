@@ -151,7 +151,7 @@ class EndpointEngine:
 
     # -- the protocol --------------------------------------------------------------------
     def render(self, messages: Sequence[dict], prefill: str = "") -> str:
-        """A plain readable transcript, NOT the model's real prompt: the server applies its
+        """A plain readable copy of the conversation, NOT the model's real prompt: the server applies its
         own chat template, which this side cannot see."""
         parts = [f"[{m.get('role', '?')}]\n{m.get('content', '')}" for m in messages]
         parts.append(f"[assistant]\n{prefill}")
