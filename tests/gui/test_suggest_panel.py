@@ -219,6 +219,7 @@ def test_rephrase_with_the_real_model(qtbot, runner, settings, tmp_path, sample_
     else:
         assert "The model gave no usable wording" in suggest.message.text()
     assert window.problems == []
+    qtbot.wait(100)
     suggest.grab().save(str(snap_dir() / "suggest_real_model.png"))
 
 

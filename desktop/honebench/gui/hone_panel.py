@@ -6,21 +6,21 @@ from __future__ import annotations
 import html
 from typing import Callable
 
-from PySide6.QtCharts import (QChart, QChartView, QLineSeries, QScatterSeries, QValueAxis)
-from PySide6.QtCore import QEvent, QMargins, QPointF, Qt, Signal
-from PySide6.QtGui import QPainter, QPalette, QPen
-from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QFrame, QGridLayout, QHBoxLayout,
-                               QHeaderView, QLabel, QProgressBar, QPushButton, QScrollArea, QSpinBox,
-                               QSplitter, QTableWidget, QTableWidgetItem, QVBoxLayout, QWidget)
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QGridLayout, QHBoxLayout,
+                               QHeaderView, QLabel, QProgressBar, QPushButton, QSpinBox,
+                               QSplitter, QTableWidget, QTableWidgetItem, QToolButton,
+                               QVBoxLayout, QWidget)
 
 from ..core.hone import HoneBudget, HoneOutcome, HoneRound, hone
 from ..core.stats import Score, score
 from ..core.suggest.pipeline import base_marks
 from ..core.suggest.strategies import STRATEGIES, STRATEGY_LABELS
 from ..core.wording import Wording
+from .hone_chart import HoneChart
 from .jobs import Job, JobRunner
 from .shelf_model import score_cell
-from .suggest_panel import small
+from .suggest_cards import small
 
 COLUMNS = ("round", "best on tuning items", "kept", "held-out of kept")
 TIPS = ("the round number; “start” is the wording auto-hone began from",
@@ -48,86 +48,6 @@ def run_hone(project, handle, wording: Wording, strategy: str, budget: HoneBudge
                        progress=lambda stage, done, total: ctx.report(
                            ("progress", stage, done, total)))
     return outcome, project.shelf_rows()
-
-
-class HoneChart(QChartView):
-    """Best tuning score per round (line with round dots) and the held-out score of each
-    kept version (squares). Colours come from the chart theme chosen by palette lightness;
-    the two series also differ in shape."""
-
-    def __init__(self, parent=None):
-        super().__init__(parent)
-        self.setAccessibleName("Progress chart: best tuning score per round and held-out "
-                               "scores of kept versions")
-        self.setRenderHint(QPainter.RenderHint.Antialiasing)
-        self.setMinimumHeight(170)
-        chart = QChart()
-        chart.setMargins(QMargins(2, 2, 2, 2))
-        chart.layout().setContentsMargins(0, 0, 0, 0)
-        chart.legend().setAlignment(Qt.AlignmentFlag.AlignBottom)
-        self.tuning = QLineSeries()
-        self.tuning.setName("best, tuning items")
-        self.tuning.setPointsVisible(True)
-        self.held = QScatterSeries()
-        self.held.setName("held-out, kept version")
-        self.held.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeRectangle)
-        self.held.setMarkerSize(10)
-        chart.addSeries(self.tuning)
-        chart.addSeries(self.held)
-        self.x_axis, self.y_axis = QValueAxis(), QValueAxis()
-        self.x_axis.setTitleText("round (0 = start)")
-        self.setToolTip("Line with dots: the best wording's tuning score after each round.\n"
-                        "Squares: each kept version graded on the held-out items.")
-        self.x_axis.setLabelFormat("%d")
-        self.y_axis.setTitleText("pass %")
-        self.y_axis.setLabelFormat("%d")
-        self.y_axis.setRange(0, 100)
-        self.y_axis.setTickCount(6)
-        chart.addAxis(self.x_axis, Qt.AlignmentFlag.AlignBottom)
-        chart.addAxis(self.y_axis, Qt.AlignmentFlag.AlignLeft)
-        for series in (self.tuning, self.held):
-            series.attachAxis(self.x_axis)
-            series.attachAxis(self.y_axis)
-        self.setChart(chart)
-        self.set_rounds(5)
-        self.follow_palette()
-
-    def set_rounds(self, rounds: int) -> None:
-        self.x_axis.setRange(0, max(rounds, 1))
-        self.x_axis.setTickCount(min(max(rounds, 1), 10) + 1)
-
-    def clear(self) -> None:
-        self.tuning.clear()
-        self.held.clear()
-
-    def add_tuning(self, x: int, s: Score) -> None:
-        self.tuning.append(QPointF(x, s.rate * 100))
-
-    def add_held_out(self, x: int, s: Score) -> None:
-        self.held.append(QPointF(x, s.rate * 100))
-
-    def follow_palette(self) -> None:
-        palette = self.palette()
-        chart = self.chart()
-        dark = palette.color(QPalette.ColorRole.Window).lightness() < 128
-        chart.setTheme(QChart.ChartTheme.ChartThemeDark if dark else QChart.ChartTheme.ChartThemeLight)
-        text = palette.color(QPalette.ColorRole.WindowText)
-        chart.setBackgroundBrush(palette.brush(QPalette.ColorRole.Base))
-        chart.setPlotAreaBackgroundVisible(False)
-        chart.setTitleBrush(text)
-        chart.legend().setLabelColor(text)
-        for axis in (self.x_axis, self.y_axis):
-            axis.setLabelsColor(text)
-            axis.setTitleBrush(text)
-        pen = QPen(self.tuning.pen())
-        pen.setWidthF(2.0)
-        self.tuning.setPen(pen)
-        self.setBackgroundBrush(palette.brush(QPalette.ColorRole.Window))
-
-    def changeEvent(self, event):
-        if event.type() == QEvent.Type.PaletteChange:
-            self.follow_palette()
-        super().changeEvent(event)
 
 
 class HonePanel(QWidget):
@@ -198,7 +118,8 @@ class HonePanel(QWidget):
         self.table.horizontalHeader().setStretchLastSection(True)
         self.chart = HoneChart()
 
-        grid = QGridLayout()
+        self.settings_box = QWidget()
+        grid = QGridLayout(self.settings_box)
         grid.setContentsMargins(0, 0, 0, 0)
         cells = (("S&trategy", self.strategy, 0, 0), ("&Rounds", self.rounds_spin, 1, 0),
                  ("&Per round", self.per_round, 1, 2), ("Pat&ience", self.patience, 2, 0),
@@ -221,28 +142,44 @@ class HonePanel(QWidget):
         split.setChildrenCollapsible(False)
         split.setStretchFactor(0, 1)
         split.setStretchFactor(1, 2)
-        body = QWidget()  # scrolls when the dock is short, so the window keeps its size
-        layout = QVBoxLayout(body)
+        self.settings_toggle = QToolButton()  # folds the settings away while a run is shown
+        self.settings_toggle.setCheckable(True)
+        self.settings_toggle.setChecked(True)
+        self.settings_toggle.setAutoRaise(True)
+        self.settings_toggle.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextBesideIcon)
+        self.settings_toggle.setAccessibleName("Show or hide the auto-hone settings")
+        self.settings_toggle.toggled.connect(self._fold_settings)
+        for spin in (self.rounds_spin, self.per_round, self.patience, self.minutes, self.calls):
+            spin.valueChanged.connect(lambda _v: self._fold_settings(
+                self.settings_toggle.isChecked()))
+        self.strategy.currentIndexChanged.connect(lambda _i: self._fold_settings(
+            self.settings_toggle.isChecked()))
+        layout = QVBoxLayout(self)
         layout.setContentsMargins(6, 6, 6, 6)
         layout.addWidget(self.explain)
-        layout.addLayout(grid)
+        layout.addWidget(self.settings_toggle)
+        layout.addWidget(self.settings_box)
         layout.addLayout(buttons)
         layout.addWidget(self.progress)
         layout.addWidget(self.stage)
         layout.addWidget(self.result)
         layout.addWidget(split, 1)
-        scroll = QScrollArea()
-        scroll.setWidgetResizable(True)
-        scroll.setFrameShape(QFrame.Shape.NoFrame)
-        scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        scroll.setWidget(body)
-        outer = QVBoxLayout(self)
-        outer.setContentsMargins(0, 0, 0, 0)
-        outer.addWidget(scroll)
         self.start_button.clicked.connect(self.start)
         self.cancel_button.clicked.connect(self.cancel)
         self.rounds_spin.valueChanged.connect(self.chart.set_rounds)
+        self._fold_settings(True)
         self._show_idle()
+
+    def _fold_settings(self, shown: bool) -> None:
+        b = self.budget()
+        limits = "".join([f", {self.minutes.value()} min" if b.seconds else "",
+                          f", {b.model_calls} calls" if b.model_calls else ""])
+        self.settings_toggle.setArrowType(Qt.ArrowType.DownArrow if shown
+                                          else Qt.ArrowType.RightArrow)
+        self.settings_toggle.setText(
+            "Settings" if shown else f"Settings: {self.strategy.currentText().lower()}, "
+            f"{b.rounds} rounds × {b.per_round}, patience {b.patience}{limits}")
+        self.settings_box.setVisible(shown)
 
     def _spin(self, low: int, high: int, value: int, name: str, tip: str, special: str = "",
               suffix: str = "") -> QSpinBox:
@@ -294,6 +231,7 @@ class HonePanel(QWidget):
         self.chart.clear()
         self.chart.set_rounds(budget.rounds)
         self.result.setText("")
+        self.settings_toggle.setChecked(False)  # room for the table and the chart
         self.job = self.runner.submit(
             lambda ctx: run_hone(project, handle, wording, strategy, budget, params, ctx),
             done=self._finished, failed=self._failed, progress=self._progress,

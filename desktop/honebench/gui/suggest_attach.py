@@ -74,7 +74,7 @@ def attach_suggestions(window) -> tuple[SuggestPanel, HonePanel]:
     hone_dock, _ = _dock(window, "Auto-hone", "hone_dock", hone)
     suggest_dock.raise_()
     if not placed:  # the cards need room: most of the side's height goes to the tabs
-        window.resizeDocks([window.shelf_dock, suggest_dock], [300, 520],
+        window.resizeDocks([window.shelf_dock, suggest_dock], [360, 460],
                            Qt.Orientation.Vertical)
 
     def show_rows(rows):

@@ -10,9 +10,61 @@ from PySide6.QtWidgets import (QFrame, QHBoxLayout, QLabel, QLineEdit, QPushButt
                                QVBoxLayout)
 
 from ..core.stats import Score
-from ..core.suggest.pipeline import Card
+from ..core.suggest.pipeline import EARLY_RULE, Card, SuggestOutcome
 from ..core.suggest.strategies import STRATEGY_LABELS
+from ..core.wording import Wording
 from .shelf_model import diff_html, score_cell
+
+CAUTION = ("Scores are on tuning items; the best of several suggestions looks better here than "
+           "it will on new items — confirm on held-out items.")
+STRATEGY_TIPS = {
+    "scoreboard": "Show the model earlier shelf wordings with their tuning scores and ask for "
+                  "a new one that scores higher",
+    "misses": "Show the model missed tuning items, ask what the wording fails to convey, "
+              "then ask for a rewrite that fixes it",
+    "rephrase": "Same meaning, new words",
+    "phrase-edits": "No model: delete, swap or borrow phrases (the same seed gives the same "
+                    "edits)",
+    "blend": "Combine the selected shelf entry with a second one",
+}
+EDITOR = "the editor's wording"
+
+
+def early_rule(n_tuning: int) -> str:
+    """The early-stop rule as the pipeline will apply it to this many tuning items."""
+    return EARLY_RULE.format(n=min(n_tuning, max(10, n_tuning // 4)))
+
+
+def small(label: QLabel) -> QLabel:
+    """A small, word-wrapped, muted label (palette colours only)."""
+    font = label.font()
+    font.setPointSizeF(font.pointSizeF() * 0.88)
+    label.setFont(font)
+    label.setWordWrap(True)
+    label.setForegroundRole(QPalette.ColorRole.PlaceholderText)
+    return label
+
+
+def keep_card(project, card, reason: str, verdict: str):
+    """Save one decision on a card (a job): (entry, shelf rows)."""
+    wording = Wording(card.text, card.placement)
+    how = project.keep if verdict == "kept" else project.set_aside
+    entry = how(wording, parent_id=(card.inputs or {}).get("parent_id"), origin=card.strategy,
+                note=reason, inputs=card.inputs)
+    return entry, project.shelf_rows()
+
+
+def outcome_text(outcome: SuggestOutcome, source: str) -> str:
+    """The headline and the current wording's score, as rich text."""
+    base = (f"{source[0].upper() + source[1:]} scores "
+            f"{html.escape(score_cell(outcome.base_score))} on tuning items.")
+    seconds = f"{outcome.seconds:.1f}" if outcome.seconds < 10 else f"{outcome.seconds:.0f}"
+    took = f"{outcome.model_calls} model calls, {seconds} s."
+    head = f"<b>{html.escape(outcome.message)}</b>" + (", best first." if outcome.cards else "")
+    if outcome.cancelled:
+        head = "<b>Cancelled.</b> " + (head if outcome.cards else
+                                       "No suggestion was fully scored.")
+    return f"<p>{head}</p><p>{base} {took}</p>"
 
 
 def change_glyph(card: Card, base: Score) -> str:

@@ -6,7 +6,6 @@ import html
 from typing import Callable
 
 from PySide6.QtCore import Qt, Signal
-from PySide6.QtGui import QPalette
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QFormLayout, QFrame, QGroupBox, QHBoxLayout,
                                QLabel, QProgressBar, QPushButton, QScrollArea, QSpinBox,
                                QToolButton, QVBoxLayout, QWidget)
@@ -16,45 +15,8 @@ from ..core.suggest.pipeline import EARLY_RULE, SuggestOutcome, suggest
 from ..core.suggest.strategies import STRATEGIES, STRATEGY_LABELS
 from ..core.wording import Wording
 from .jobs import Job, JobRunner
-from .shelf_model import score_cell
-from .suggest_cards import SuggestionCard, inputs_text
-
-CAUTION = ("Scores are on tuning items; the best of several suggestions looks better here than "
-           "it will on new items — confirm on held-out items.")
-STRATEGY_TIPS = {
-    "scoreboard": "Show the model earlier shelf wordings with their tuning scores and ask for "
-                  "a new one that scores higher",
-    "misses": "Show the model missed tuning items, ask what the wording fails to convey, "
-              "then ask for a rewrite that fixes it",
-    "rephrase": "Same meaning, new words",
-    "phrase-edits": "No model: delete, swap or borrow phrases (the same seed gives the same "
-                    "edits)",
-    "blend": "Combine the selected shelf entry with a second one",
-}
-EDITOR = "the editor's wording"
-
-
-def early_rule(n_tuning: int) -> str:
-    """The early-stop rule as the pipeline will apply it to this many tuning items."""
-    return EARLY_RULE.format(n=min(n_tuning, max(10, n_tuning // 4)))
-
-
-def small(label: QLabel) -> QLabel:
-    font = label.font()
-    font.setPointSizeF(font.pointSizeF() * 0.88)
-    label.setFont(font)
-    label.setWordWrap(True)
-    label.setForegroundRole(QPalette.ColorRole.PlaceholderText)
-    return label
-
-
-def keep_card(project, card, reason: str, verdict: str):
-    """Save one decision on a card (a job): (entry, shelf rows)."""
-    wording = Wording(card.text, card.placement)
-    how = project.keep if verdict == "kept" else project.set_aside
-    entry = how(wording, parent_id=(card.inputs or {}).get("parent_id"), origin=card.strategy,
-                note=reason, inputs=card.inputs)
-    return entry, project.shelf_rows()
+from .suggest_cards import (CAUTION, EDITOR, STRATEGY_TIPS, SuggestionCard, early_rule,
+                            inputs_text, keep_card, outcome_text, small)
 
 
 class SuggestPanel(QWidget):
@@ -347,7 +309,7 @@ class SuggestPanel(QWidget):
         self.message.setVisible(True)
         self.diagnosis.setText(outcome.notes.get("diagnosis", ""))
         self.rule.setText(outcome.rule or self._rule_template())
-        self.message.setText(self._message(outcome, source))
+        self.message.setText(outcome_text(outcome, source))
         n = len(outcome.dropped)
         self.dropped_toggle.setVisible(bool(n))
         self.dropped_toggle.setText(f"{n} repl{'y' if n == 1 else 'ies'} dropped")
@@ -362,21 +324,6 @@ class SuggestPanel(QWidget):
             widget.load_requested.connect(self._load)
             self.card_layout.addWidget(widget)
             self.cards.append(widget)
-
-    @staticmethod
-    def _message(outcome: SuggestOutcome, source: str) -> str:
-        base = (f"{source[0].upper() + source[1:]} scores "
-                f"{html.escape(score_cell(outcome.base_score))} on tuning items.")
-        seconds = f"{outcome.seconds:.1f}" if outcome.seconds < 10 else f"{outcome.seconds:.0f}"
-        took = f"{outcome.model_calls} model calls, {seconds} s."
-        if outcome.cards:
-            head = f"<b>{html.escape(outcome.message)}</b>, best first."
-        else:
-            head = f"<b>{html.escape(outcome.message)}</b>"
-        if outcome.cancelled:
-            head = "<b>Cancelled.</b> " + (head if outcome.cards else
-                                           "No suggestion was fully scored.")
-        return f"<p>{head}</p><p>{base} {took}</p>"
 
     def _toggle_dropped(self, shown: bool) -> None:
         self.dropped_toggle.setArrowType(Qt.ArrowType.DownArrow if shown
