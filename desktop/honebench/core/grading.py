@@ -15,26 +15,13 @@ from typing import Callable, Sequence
 
 from .checks import CheckSpec, judge
 from .engines.base import Engine, Params, Request, Result
+from .events import Progress
 from .records import Mark
 from .sets import Item, QuestionSet
 from .store import Store
 from .wording import Wording, build_prompt
 
 SENTINEL = "\u2063ITEM\u2063"  # stands in for item text when finding the shared prompt prefix
-
-
-@dataclass(frozen=True)
-class Progress:
-    done: int
-    total: int
-    passed: int
-    cached: int
-    elapsed: float
-    eta: float | None  # seconds left, None until a model answer has been timed
-
-    @property
-    def items_per_second(self) -> float:
-        return self.done / self.elapsed if self.elapsed > 0 else 0.0
 
 
 @dataclass(frozen=True)
