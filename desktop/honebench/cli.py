@@ -1,23 +1,20 @@
-"""The command line: ``honebench <verb>``. A thin front over the core, like the window.
+"""The command line: ``honebench <verb>``. A thin front over the core, like the window:
+the parser is here, each verb in commands.py is a few calls to ``core.project.Project``.
 
 With no verb, honebench opens the desktop window.
 """
 from __future__ import annotations
 
 import argparse
-import json
 import sys
-import threading
 from pathlib import Path
 
-from .core.checks import CHECKS, CheckSpec
-from .core.engines.base import EngineError, Params
+from .core.checks import CHECKS
+from .core.engines.base import EngineError
 from .core.sets import SetError
+from .core.settings import ANSWER_MODES, ProjectSettings
 from .core.store import PROJECT_SUFFIX, StoreError
-from .core.wording import PLACEMENTS, Wording
-
-CAUTION = ("Scores on small sets are noisy and a wording tuned on these items can overfit; "
-           "confirm on held-out items and review outputs before relying on them.")
+from .core.wording import PLACEMENTS
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -45,8 +42,8 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--id-column", metavar="COLUMN", help="item id column")
     g.add_argument("--split", choices=("tuning", "held_out", "all"), default="tuning")
     g.add_argument("--limit", type=int, help="grade only the first N items of the split")
-    g.add_argument("--project", type=Path, help="project file to use (default: one per set "
-                   "in ~/.honebench/projects, or $HONEBENCH_HOME)")
+    g.add_argument("--project", help=f"project file to use ({PROJECT_SUFFIX}, added when "
+                   "missing; default: one per set in ~/.honebench/projects, or $HONEBENCH_HOME)")
     _engine_args(g)
     g.add_argument("--json", action="store_true", help="print one JSON object")
 
@@ -91,6 +88,7 @@ def build_parser() -> argparse.ArgumentParser:
     cmp_.add_argument("first")
     cmp_.add_argument("second")
     cmp_.add_argument("--split", choices=("tuning", "held_out"), default="tuning")
+    _engine_args(cmp_)  # used only for a version not yet graded on that split
 
     e = verbs.add_parser("export", help="write the report, all marks, or the chosen wording")
     e.add_argument("project")
@@ -110,9 +108,14 @@ def _engine_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--model", help="GGUF model file (default: bundled SmolLM2-135M-Instruct)")
     p.add_argument("--endpoint", help="OpenAI-protocol endpoint URL, e.g. http://127.0.0.1:8080/v1")
     p.add_argument("--endpoint-model", default="", help="model name to ask the endpoint for")
-    p.add_argument("--max-tokens", type=int, default=32)
-    p.add_argument("--temperature", type=float, default=0.0)
-    p.add_argument("--seed", type=int, default=0)
+    # None = not given: the project's settings apply; a value overrides them for this run only
+    p.add_argument("--max-tokens", type=int, help="answer length limit (default: the "
+                   f"project's setting, at first {ProjectSettings().max_tokens})")
+    p.add_argument("--temperature", type=float, help="0 answers greedily (default: the "
+                   "project's setting)")
+    p.add_argument("--seed", type=int, help="sampling seed (default: the project's setting)")
+    p.add_argument("--answer-mode", choices=ANSWER_MODES, help="score: rank the allowed labels "
+                   "(label check); generate: let the model write (default: the project's)")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -120,25 +123,18 @@ def main(argv: list[str] | None = None) -> int:
     try:
         if args.verb is None or args.verb == "gui":
             return _gui(args)
-        if args.verb == "grade":
-            return _grade(args)
-        if args.verb in ("suggest", "hone", "confirm"):
-            from . import commands
-            engine = open_engine(args)
-            try:
-                return getattr(commands, f"{args.verb}_verb")(args, engine)
-            finally:
-                engine.close()
-        if args.verb in ("compare", "export"):
-            from . import commands
-            return getattr(commands, f"{args.verb}_verb")(args)
         if args.verb == "bench":
             from .core.bench import run_bench
             return run_bench(set_path=args.set_path, items=args.items, model=args.model)
+        from . import commands
+        return getattr(commands, f"{args.verb}_verb")(args)
     except (SetError, EngineError, StoreError, ValueError, LookupError, OSError) as exc:
         print(f"honebench: {exc}", file=sys.stderr)
         return 2
-    return 0
+    except KeyboardInterrupt:
+        print("\nhonebench: interrupted; every finished mark is saved in the project.",
+              file=sys.stderr)
+        return 130
 
 
 def open_engine(args):
@@ -150,98 +146,6 @@ def open_engine(args):
         return engine
     from .core.engines.local import LocalEngine
     return LocalEngine(args.model)
-
-
-def _grade(args) -> int:
-    from .core.grading import Grader
-    from .core.project import Project, default_project_path, read_question_set
-
-    source = Path(args.source)
-    if source.suffix == PROJECT_SUFFIX:
-        if not source.exists():
-            raise ValueError(f"project file {source} does not exist")
-        project = Project(source)
-    else:
-        mapping = None
-        if args.inputs or args.expected or args.id_column:
-            from .core.sets import ColumnMapping, guess_mapping, read_table
-            columns = list(read_table(source).columns)
-            try:
-                guessed = guess_mapping(columns)
-            except SetError:
-                guessed = ColumnMapping(inputs=(), expected="")
-            mapping = ColumnMapping(inputs=tuple(args.inputs or guessed.inputs),
-                                    expected=args.expected or guessed.expected,
-                                    id=args.id_column or guessed.id, split=guessed.split)
-        qset = read_question_set(source, mapping)  # validated before any file is written
-        project = Project(args.project or default_project_path(source))
-        project.add_set(qset)
-    set_id, qset = project.current_set()
-    check = _check_from_args(project.check(), args)
-    project.set_check(check)
-    draft = project.draft()
-    text = args.wording_file.read_text(encoding="utf-8") if args.wording_file else args.wording
-    wording = Wording(text.strip() if text is not None else draft.text,
-                      args.placement or draft.placement)
-    if not wording.text:
-        raise ValueError("no wording given: pass --wording TEXT or --wording-file FILE")
-    project.save_draft(wording)
-    from .core.grading import select_items
-    items = select_items(qset, args.split)[: args.limit] if args.limit else None
-    engine = open_engine(args)
-    params = Params(max_tokens=args.max_tokens, temperature=args.temperature, seed=args.seed)
-    shown = [0]
-
-    def progress(mark, prog):
-        if not args.json and sys.stderr.isatty():
-            eta = f", about {prog.eta:.0f} s left" if prog.eta else ""
-            print(f"\r{prog.done}/{prog.total} graded{eta}   ", end="", file=sys.stderr)
-        shown[0] = prog.done
-
-    try:
-        outcome = Grader(project.store, engine).grade(
-            set_id=set_id, qset=qset, wording=wording, check=check, params=params,
-            split=args.split, items=items, on_mark=progress, cancel=threading.Event())
-    finally:
-        engine.close()
-    if shown[0] and not args.json and sys.stderr.isatty():
-        print(file=sys.stderr)
-    summary = project.summary(outcome.run_id)
-    if args.json:
-        out = summary.as_dict()
-        out.update(run_id=outcome.run_id, status=outcome.status,
-                   fingerprint=project.store.run(outcome.run_id).fingerprint,
-                   project=str(project.path), split=args.split, wording=wording.text,
-                   placement=wording.placement, model_calls=outcome.model_calls,
-                   marks=[m.as_dict() for m in outcome.marks])
-        print(json.dumps(out, indent=2, ensure_ascii=False))
-    else:
-        print(f"{project.title()}: {qset.name}, {args.split} items "
-              f"({len(outcome.marks)} graded, run {outcome.run_id})")
-        for line in summary.lines():
-            print(line)
-        misses = [m for m in outcome.marks if not m.passed][:5]
-        if misses:
-            print("first misses:")
-            for m in misses:
-                print(f"  {m.item_id}: {m.why}")
-        print(f"saved in {project.path}")
-        print(CAUTION)
-    project.close()
-    return 0
-
-
-def _check_from_args(saved: CheckSpec, args) -> CheckSpec:
-    d = saved.as_dict()
-    if args.check and args.check != saved.kind:
-        d = CheckSpec(kind=args.check).as_dict()
-    for name in ("extraction", "pattern", "json_field", "marker"):
-        value = getattr(args, name, None)
-        if value is not None:
-            d[name] = value
-    if args.labels:
-        d["labels"] = [x.strip() for x in args.labels.split(",") if x.strip()]
-    return CheckSpec.from_dict(d)
 
 
 def _gui(args) -> int:

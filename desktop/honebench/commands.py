@@ -1,57 +1,179 @@
-"""CLI verbs over a project file: suggest, hone, confirm, compare, export."""
+"""The CLI's verbs: each reads its arguments, calls ``core.project.Project`` and prints.
+
+Nothing here computes: grading, confirming, comparing, suggesting and exporting are the same
+Project operations the window runs. Settings flags override the project's settings for one
+run only; check flags are saved as the project's answer check, as the window does.
+"""
 from __future__ import annotations
 
 import json
+import sys
 import threading
 from pathlib import Path
 
-from .core.engines.base import Params
-from .core.project import Project
+from .core.checks import CheckSpec
+from .core.events import Finished, Marked, Stage, Started, progress_text
+from .core.project import (Project, column_mapping, default_project_path, project_file,
+                           read_question_set)
 from .core.store import PROJECT_SUFFIX
 from .core.wording import Wording
 
+CAUTION = ("Scores on small sets are noisy and a wording tuned on these items can overfit; "
+           "confirm on held-out items and review outputs before relying on them.")
+
+
+class ProgressPrinter:
+    """Shows progress events on stderr in the core's words: one updating line on a
+    terminal, only the stages when stderr is a file or a pipe; nothing with --json."""
+
+    def __init__(self, quiet: bool = False, stream=None):
+        self.stream = stream or sys.stderr
+        self.quiet = quiet
+        self.live = not quiet and self.stream.isatty()
+        self._open = False
+
+    def __call__(self, event) -> None:
+        if self.quiet:
+            return
+        if isinstance(event, Marked):
+            if self.live:
+                print(f"\r{progress_text(event.progress)}   ", end="", file=self.stream,
+                      flush=True)
+                self._open = True
+        elif isinstance(event, (Started, Stage)):
+            text = event.what if isinstance(event, Started) else event.text
+            if text:
+                self._end_line()
+                print(text, file=self.stream, flush=True)
+        elif isinstance(event, Finished):
+            self._end_line()
+
+    def _end_line(self) -> None:
+        if self._open:
+            print(file=self.stream)
+            self._open = False
+
 
 def open_project(path: str | Path) -> Project:
-    p = Path(path)
-    if p.suffix != PROJECT_SUFFIX or not p.exists():
-        raise ValueError(f"{p} is not an existing project file ({PROJECT_SUFFIX}); grade a "
-                         "question set first (`honebench grade SET ...`) or open it in the window")
-    return Project(p)
+    """An existing project file (``task`` means ``task.hone``)."""
+    return Project.open(path).value
 
 
-def _params(args) -> Params:
-    return Params(max_tokens=args.max_tokens, temperature=args.temperature, seed=args.seed)
+def run_settings(project: Project, args):
+    """The project's settings with this run's flags applied (not saved)."""
+    return project.settings().override(
+        max_tokens=args.max_tokens, temperature=args.temperature, seed=args.seed,
+        answer_mode=getattr(args, "answer_mode", None))
 
 
-def _entry(project: Project, version: str | None):
-    """A shelf entry by its label ("v3" or "3")."""
-    if version is None:
-        return None
-    number = int(str(version).lstrip("vV"))
-    for entry in project.store.shelf():
-        if entry.version == number:
-            return entry
-    labels = ", ".join(e.label for e in project.store.shelf()) or "nothing yet"
-    raise ValueError(f"no v{number} on the shelf; it holds {labels}")
+def _with_engine(args, work):
+    from .cli import open_engine
+
+    engine = open_engine(args)
+    try:
+        return work(engine)
+    finally:
+        engine.close()
 
 
-def suggest_verb(args, engine) -> int:
-    from .core.suggest.pipeline import suggest
+# -- grade --------------------------------------------------------------------------------
+def grade_verb(args) -> int:
+    project = _grade_project(args)
+    try:
+        check = _check_from_args(project.check(), args)
+        project.set_check(check)
+        draft = project.draft()
+        text = (args.wording_file.read_text(encoding="utf-8") if args.wording_file
+                else args.wording)
+        wording = Wording(text.strip() if text is not None else draft.text,
+                          args.placement or draft.placement)
+        if not wording.text:
+            raise ValueError("no wording given: pass --wording TEXT or --wording-file FILE")
+        settings = run_settings(project, args)
+        show = ProgressPrinter(quiet=args.json)
+        done = _with_engine(args, lambda engine: project.grade(
+            engine, wording, split=args.split, limit=args.limit, settings=settings,
+            on_event=show, cancel=threading.Event()))
+        _print_grade(project, done.value, args)
+    finally:
+        project.close()
+    return 0
 
+
+def _grade_project(args) -> Project:
+    """The project a grade writes to; a question set is read and checked before any file
+    is created, and a --project path with the wrong extension is refused first."""
+    source = Path(args.source)
+    if source.suffix == PROJECT_SUFFIX:
+        return open_project(source)
+    target = project_file(args.project) if args.project else default_project_path(source)
+    mapping = column_mapping(source, inputs=args.inputs, expected=args.expected,
+                             id=args.id_column)
+    qset = read_question_set(source, mapping)
+    project = Project.open(target, create=True).value
+    project.import_set(qset)
+    return project
+
+
+def _print_grade(project: Project, result, args) -> None:
+    outcome, summary = result.outcome, result.summary
+    if args.json:
+        out = summary.as_dict()
+        out.update(run_id=outcome.run_id, status=outcome.status,
+                   fingerprint=result.run.fingerprint, project=str(project.path),
+                   split=args.split, wording=result.run.wording_text,
+                   placement=result.run.placement, version=result.entry.label,
+                   settings=result.run.params, model_calls=outcome.model_calls,
+                   marks=[m.as_dict() for m in outcome.marks])
+        print(json.dumps(out, indent=2, ensure_ascii=False))
+        return
+    _, qset = project.current_set()
+    print(f"{project.title()}: {qset.name}, {args.split} items ({len(outcome.marks)} graded, "
+          f"run {outcome.run_id}, {result.entry.label} on the shelf)")
+    for line in summary.lines():
+        print(line)
+    misses = [m for m in outcome.marks if not m.passed][:5]
+    if misses:
+        print("first misses:")
+        for m in misses:
+            print(f"  {m.item_id}: {m.why}")
+    print(f"saved in {project.path}")
+    print(CAUTION)
+
+
+def _check_from_args(saved: CheckSpec, args) -> CheckSpec:
+    d = saved.as_dict()
+    if args.check and args.check != saved.kind:
+        d = CheckSpec(kind=args.check).as_dict()
+    for name in ("extraction", "pattern", "json_field", "marker"):
+        value = getattr(args, name, None)
+        if value is not None:
+            d[name] = value
+    if args.labels:
+        d["labels"] = [x.strip() for x in args.labels.split(",") if x.strip()]
+    return CheckSpec.from_dict(d)
+
+
+# -- suggest and hone -----------------------------------------------------------------------
+def suggest_verb(args) -> int:
     project = open_project(args.project)
-    base_entry = _entry(project, args.base)
-    base = Wording(base_entry.text, base_entry.placement) if base_entry else None
-    other = _entry(project, args.other)
-    outcome = suggest(project, engine, args.strategy, count=args.count, base=base,
-                      other_id=other.id if other else None, seed=args.seed,
-                      temperature=args.proposal_temperature, params=_params(args),
-                      cancel=threading.Event())
-    kept = None
-    if args.keep_best and outcome.cards and outcome.cards[0].score.rate > outcome.base_score.rate:
-        top = outcome.cards[0]
-        parent = project.keep(outcome.base)  # the wording it came from goes on the shelf too
-        kept = project.keep(Wording(top.text, top.placement), origin=top.strategy,
-                            parent_id=parent.id, inputs=top.inputs).label
+    try:
+        base = project.shelf_entry(args.base).id if args.base else None
+        other = project.shelf_entry(args.other).id if args.other else None
+        settings = run_settings(project, args)
+        done = _with_engine(args, lambda engine: project.suggest(
+            engine, args.strategy, count=args.count, base=base, other=other,
+            proposal_temperature=args.proposal_temperature, keep_best=args.keep_best,
+            settings=settings, on_event=ProgressPrinter(quiet=args.json),
+            cancel=threading.Event()))
+        _print_suggestions(done.value, args)
+    finally:
+        project.close()
+    return 0
+
+
+def _print_suggestions(result, args) -> None:
+    outcome = result.outcome
     if args.json:
         print(json.dumps([{
             "wording": c.text, "placement": c.placement, "score": c.score.rate,
@@ -60,41 +182,44 @@ def suggest_verb(args, engine) -> int:
             "broken": c.paired.broken, "p_value": c.paired.p_value, "strategy": c.strategy,
             "inputs": c.inputs, "run_id": c.run_id} for c in outcome.cards],
             indent=2, ensure_ascii=False))
-    else:
-        print(f"current wording: {outcome.base_score.text()}")
-        if outcome.notes.get("diagnosis"):
-            print(f"diagnosis: {outcome.notes['diagnosis']}")
-        print(outcome.message)
-        for i, card in enumerate(outcome.cards, 1):
-            print(f"\n[{i}] {card.score.text()}; {card.change_text(outcome.base_score)}")
-            print(f"    {card.text}")
-        if outcome.dropped:
-            print(f"\ndropped: {'; '.join(outcome.dropped)}")
-        if outcome.rule:
-            print(outcome.rule)
-        if kept:
-            print(f"kept the top suggestion as {kept}")
-        print(f"{outcome.model_calls} model calls, {outcome.seconds:.1f} s. Scores are on tuning "
-              "items only; confirm a wording on held-out items before relying on it.")
-    project.close()
-    return 0
+        return
+    print(f"current wording: {outcome.base_score.text()}")
+    if outcome.notes.get("diagnosis"):
+        print(f"diagnosis: {outcome.notes['diagnosis']}")
+    print(outcome.message)
+    for i, card in enumerate(outcome.cards, 1):
+        print(f"\n[{i}] {card.score.text()}; {card.change_text(outcome.base_score)}")
+        print(f"    {card.text}")
+    if outcome.dropped:
+        print(f"\ndropped: {'; '.join(outcome.dropped)}")
+    if outcome.rule:
+        print(outcome.rule)
+    if result.kept:
+        print(f"kept the top suggestion as {result.kept.label}")
+    print(f"{outcome.model_calls} model calls, {outcome.seconds:.1f} s. Scores are on tuning "
+          "items only; confirm a wording on held-out items before relying on it.")
 
 
-def hone_verb(args, engine) -> int:
-    from .core.hone import HoneBudget, hone
+def hone_verb(args) -> int:
+    from .core.hone import HoneBudget
 
     project = open_project(args.project)
     budget = HoneBudget(rounds=args.rounds, per_round=args.count, patience=args.patience,
                         seconds=args.seconds, model_calls=args.model_calls)
 
-    def show(rnd):
+    def show(rnd) -> None:
         if not args.json:
-            kept = f", kept v{project.store.wording(rnd.kept_id).version}" if rnd.kept_id else ""
+            kept = f", kept {project.entry(rnd.kept_id).label}" if rnd.kept_id else ""
             held = f", held-out {rnd.held_out.text()}" if rnd.held_out else ""
             print(f"round {rnd.number}: best {rnd.best_tuning.text()}{kept}{held}", flush=True)
 
-    outcome = hone(project, engine, strategy=args.strategy, budget=budget, params=_params(args),
-                   seed=args.seed, on_round=show, cancel=threading.Event())
+    try:
+        settings = run_settings(project, args)
+        outcome = _with_engine(args, lambda engine: project.hone(
+            engine, strategy=args.strategy, budget=budget, settings=settings, on_round=show,
+            cancel=threading.Event())).value
+    finally:
+        project.close()
     if args.json:
         print(json.dumps({"session": outcome.session, "stop_reason": outcome.stop_reason,
                           "rounds": [{
@@ -108,53 +233,57 @@ def hone_verb(args, engine) -> int:
     else:
         print(f"stopped: {outcome.stop_reason}. The best tuning score is the best of many tries "
               "on the same items and is optimistic; the held-out scores are the fairer estimate.")
-    project.close()
     return 0
 
 
-def confirm_verb(args, engine) -> int:
-    from .core.grading import Grader
-
+# -- confirm, compare, export ---------------------------------------------------------------
+def confirm_verb(args) -> int:
     project = open_project(args.project)
-    entry = _entry(project, args.version)
-    set_id, qset = project.current_set()
-    run = Grader(project.store, engine).grade(
-        set_id=set_id, qset=qset, wording=Wording(entry.text, entry.placement),
-        check=project.check(), params=_params(args), split="held_out", wording_id=entry.id)
-    print(f"{entry.label} on held-out items: {project.run_score(run.run_id).text()}")
-    project.close()
+    try:
+        entry = project.shelf_entry(args.version)
+        settings = run_settings(project, args)
+        done = _with_engine(args, lambda engine: project.confirm(
+            engine, entry.id, settings=settings, on_event=ProgressPrinter(),
+            cancel=threading.Event()))
+        print(done.value.text())
+    finally:
+        project.close()
     return 0
 
 
 def compare_verb(args) -> int:
-    from .core.compare import compare_entries
-
     project = open_project(args.project)
-    set_id, _ = project.current_set()
-    a, b = _entry(project, args.first), _entry(project, args.second)
-    comparison = compare_entries(project.store, set_id, a, b, split=args.split)
-    print(comparison.text())
-    for title, pairs in (("fixed", comparison.fixed), ("broken", comparison.broken)):
-        if pairs:
-            print(f"{title}: " + ", ".join(p.item.id for p in pairs))
-    project.close()
+    try:
+        a, b = (project.shelf_entry(v).id for v in (args.first, args.second))
+        settings = run_settings(project, args)
+
+        def compare(engine):
+            return project.compare(engine, a, b, split=args.split, settings=settings,
+                                   on_event=ProgressPrinter(), cancel=threading.Event())
+
+        graded = all(project.graded_run(x, args.split) is not None for x in (a, b))
+        comparison = (compare(None) if graded else _with_engine(args, compare)).value
+        print(comparison.text())
+        for title, pairs in (("fixed", comparison.fixed), ("broken", comparison.broken)):
+            if pairs:
+                print(f"{title}: " + ", ".join(p.item.id for p in pairs))
+    finally:
+        project.close()
     return 0
 
 
 def export_verb(args) -> int:
-    from .core.report import chosen_wording_text, write_html_report, write_marks_csv
-
-    project = open_project(args.project)
-    chosen = _entry(project, args.version)
-    chosen_id = chosen.id if chosen else None
     if not (args.html or args.csv or args.text):
         raise ValueError("say what to export: --html FILE, --csv FILE and/or --text FILE")
-    if args.html:
-        print(f"report: {write_html_report(project, args.html, chosen_id=chosen_id)}")
-    if args.csv:
-        print(f"marks: {write_marks_csv(project, args.csv)}")
-    if args.text:
-        Path(args.text).write_text(chosen_wording_text(project, chosen_id) + "\n", encoding="utf-8")
-        print(f"wording: {args.text}")
-    project.close()
+    project = open_project(args.project)
+    try:
+        chosen = project.shelf_entry(args.version).id if args.version else None
+        if args.html:
+            print(f"report: {project.export_report(args.html, chosen=chosen).value}")
+        if args.csv:
+            print(f"marks: {project.export_marks(args.csv).value}")
+        if args.text:
+            print(f"wording: {project.export_wording(args.text, chosen=chosen).value}")
+    finally:
+        project.close()
     return 0

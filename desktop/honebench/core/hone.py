@@ -10,9 +10,10 @@ from dataclasses import dataclass, field
 from typing import Callable
 
 from .engines.base import Params
-from .grading import Grader
+from .events import Listener, Stage
+from .operations.grading import grade_wording
 from .stats import Score, score
-from .suggest.pipeline import GRADE_PARAMS, base_marks, suggest
+from .suggest.pipeline import base_marks, suggest
 from .wording import Wording
 
 
@@ -46,16 +47,20 @@ class HoneOutcome:
 
 
 def hone(project, engine, *, strategy: str = "scoreboard", budget: HoneBudget = HoneBudget(),
-         start: Wording | None = None, params: Params = GRADE_PARAMS, seed: int = 0,
+         start: Wording | None = None, params: Params | None = None, seed: int = 0,
          on_round: Callable[[HoneRound], None] | None = None,
          progress: Callable[[str, int, int], None] | None = None,
-         cancel: threading.Event | None = None) -> HoneOutcome:
+         cancel: threading.Event | None = None,
+         on_event: Listener | None = None) -> HoneOutcome:
+    """Rounds of suggestions from ``start`` (default: the draft); ``params`` default to the
+    project's settings. Each finished round goes to ``on_round`` and as a Stage event."""
     cancel = cancel or threading.Event()
+    params = params or project.settings().params()
     began = time.perf_counter()
     best = start or project.draft()
-    _, marks = base_marks(project, engine, best, params, cancel)
+    _, marks = base_marks(project, engine, best, params, cancel, on_event)
     best_score = score(sum(m.passed for m in marks), len(marks))
-    parent = project.keep(best, note="auto-hone start")
+    parent = project.keep(best, note="auto-hone start").value
     session = project.store.start_hone(strategy=strategy, budget=budget.__dict__)
     outcome = HoneOutcome(session)
     calls, idle = 0, 0
@@ -66,7 +71,7 @@ def hone(project, engine, *, strategy: str = "scoreboard", budget: HoneBudget = 
         t0 = time.perf_counter()
         result = suggest(project, engine, strategy, count=budget.per_round, base=best,
                          seed=seed + number * 101, params=params, progress=progress,
-                         cancel=cancel)
+                         cancel=cancel, on_event=on_event)
         calls += result.model_calls
         kept_id, held = None, None
         top = result.cards[0] if result.cards else None
@@ -76,7 +81,7 @@ def hone(project, engine, *, strategy: str = "scoreboard", budget: HoneBudget = 
                               note="not the best of its round", inputs=card.inputs)
         if top and top.score.rate > best_score.rate and not result.cancelled:
             entry = project.keep(Wording(top.text, top.placement), parent_id=parent.id,
-                                 origin=f"auto-hone: {top.strategy}", inputs=top.inputs)
+                                 origin=f"auto-hone: {top.strategy}", inputs=top.inputs).value
             best, best_score, parent, kept_id, idle = (Wording(top.text, top.placement),
                                                        top.score, entry, entry.id, 0)
             held = _confirm(project, engine, best, params, cancel)
@@ -92,6 +97,9 @@ def hone(project, engine, *, strategy: str = "scoreboard", budget: HoneBudget = 
         outcome.rounds.append(rnd)
         if on_round:
             on_round(rnd)
+        if on_event:
+            kept = f", kept {entry.label}" if kept_id else ""
+            on_event(Stage(f"round {number}: best {best_score.text()}{kept}"))
         if result.cancelled or cancel.is_set():
             outcome.stop_reason = "cancelled"
             break
@@ -113,10 +121,10 @@ def hone(project, engine, *, strategy: str = "scoreboard", budget: HoneBudget = 
 def _confirm(project, engine, wording: Wording, params: Params,
              cancel: threading.Event) -> Score | None:
     """Held-out score of a kept version: measured for the chart, never used to choose."""
-    set_id, qset = project.current_set()
-    run = Grader(project.store, engine).grade(
-        set_id=set_id, qset=qset, wording=wording, check=project.check(), params=params,
-        split="held_out", cancel=cancel)
+    found = project.store.find_wording(wording.text, wording.placement)
+    run = grade_wording(project, engine, wording, split="held_out", params=params,
+                        wording_id=found.id if found else None, cancel=cancel,
+                        what="confirming the kept version on the held-out items")
     if run.status != "finished":
         return None
     return score(sum(m.passed for m in run.marks), len(run.marks))

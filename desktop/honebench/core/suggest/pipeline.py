@@ -14,7 +14,9 @@ from typing import Callable
 
 from ..diffing import word_diff
 from ..engines.base import Params
-from ..grading import Grader, Plan
+from ..events import Listener, Progress, Stage
+from ..grading import Plan
+from ..operations.grading import grade_plans, grade_wording
 from ..records import Mark
 from ..stats import Paired, Score, paired_exact, score
 from ..wording import Wording
@@ -23,7 +25,6 @@ from .strategies import STRATEGY_LABELS, SuggestContext, propose
 
 EARLY_RULE = ("Early stop: after the first {n} tuning items, a suggestion is dropped when even "
               "the top of its 95% interval is below the current wording's tuning score.")
-GRADE_PARAMS = Params(max_tokens=32, temperature=0.0)
 
 
 @dataclass(frozen=True)
@@ -72,13 +73,15 @@ class SuggestOutcome:
                 f"{reasons}). Try again, another strategy, or a larger model.")
 
 
-def base_marks(project, engine, base: Wording, params: Params = GRADE_PARAMS,
-               cancel: threading.Event | None = None) -> tuple[int, list[Mark]]:
-    """The current wording graded on all tuning items (from the cache when graded before)."""
-    set_id, qset = project.current_set()
-    out = Grader(project.store, engine).grade(
-        set_id=set_id, qset=qset, wording=base, check=project.check(), params=params,
-        split="tuning", cancel=cancel)
+def base_marks(project, engine, base: Wording, params: Params | None = None,
+               cancel: threading.Event | None = None, on_event: Listener | None = None
+               ) -> tuple[int, list[Mark]]:
+    """The current wording graded on all tuning items (from the cache when graded before);
+    ``params`` default to the project's settings."""
+    found = project.store.find_wording(base.text, base.placement)
+    out = grade_wording(project, engine, base, split="tuning", params=params,
+                        wording_id=found.id if found else None, on_event=on_event,
+                        cancel=cancel, what="grading the current wording")
     return out.run_id, list(out.marks)
 
 
@@ -104,17 +107,28 @@ def build_context(project, base: Wording, marks: list[Mark], other_id: int | Non
 
 def suggest(project, engine, strategy: str, *, count: int = 4, base: Wording | None = None,
             other_id: int | None = None, seed: int = 0, temperature: float = 1.0,
-            params: Params = GRADE_PARAMS, early_slice: int | None = None,
+            params: Params | None = None, early_slice: int | None = None,
             progress: Callable[[str, int, int], None] | None = None,
-            cancel: threading.Event | None = None) -> SuggestOutcome:
+            cancel: threading.Event | None = None,
+            on_event: Listener | None = None) -> SuggestOutcome:
+    """Propose, clean and score variants of ``base`` (default: the draft). Progress goes to
+    ``on_event`` as Stage and Marked events (and to the older ``progress(stage, done,
+    total)`` callback); ``params`` default to the project's settings."""
     start = time.perf_counter()
     cancel = cancel or threading.Event()
-    report = progress or (lambda stage, done, total: None)
+    params = params or project.settings().params()
+
+    def report(stage: str, done: int, total: int) -> None:
+        if progress:
+            progress(stage, done, total)
+        if on_event:
+            on_event(Stage(stage, Progress(done, total)))
+
     base = base or project.draft()
-    set_id, qset = project.current_set()
+    _, qset = project.current_set()
     tuning = qset.tuning()
     report("grading the current wording", 0, len(tuning))
-    _, marks = base_marks(project, engine, base, params, cancel)
+    _, marks = base_marks(project, engine, base, params, cancel, on_event)
     base_score = score(sum(m.passed for m in marks), len(marks))
     outcome = SuggestOutcome(strategy, base, base_score)
     if cancel.is_set():
@@ -146,17 +160,22 @@ def suggest(project, engine, strategy: str, *, count: int = 4, base: Wording | N
         outcome.seconds = time.perf_counter() - start
         return outcome
 
-    grader, check = Grader(project.store, engine), project.check()
     n_slice = min(len(tuning), early_slice or max(10, len(tuning) // 4))
     outcome.rule = EARLY_RULE.format(n=n_slice)
 
     def staged(stage):
-        return lambda _i, _m, prog: report(stage, prog.done, prog.total)
+        def relay(event):
+            if on_event:
+                on_event(event)
+            if progress and hasattr(event, "progress") and hasattr(event, "mark"):
+                progress(stage, event.progress.done, event.progress.total)
+        return relay
 
     wordings = [Wording(p.text, base.placement) for p in fresh]
-    first = grader.grade_many(set_id=set_id, qset=qset, check=check, params=params,
-                              plans=[Plan(w, tuning[:n_slice]) for w in wordings],
-                              on_mark=staged("scoring on the first items"), cancel=cancel)
+    report("scoring on the first items", 0, n_slice * len(wordings))
+    first = grade_plans(project, engine, [Plan(w, tuning[:n_slice]) for w in wordings],
+                        params=params, on_event=staged("scoring on the first items"),
+                        cancel=cancel, what="scoring suggestions on the first items")
     outcome.model_calls += sum(r.model_calls for r in first)
     alive = []
     for prop, wording, run in zip(fresh, wordings, first):
@@ -168,9 +187,10 @@ def suggest(project, engine, strategy: str, *, count: int = 4, base: Wording | N
         else:
             alive.append((prop, wording))
     if alive and not cancel.is_set():
-        full = grader.grade_many(set_id=set_id, qset=qset, check=check, params=params,
-                                 plans=[Plan(w, tuning) for _, w in alive],
-                                 on_mark=staged("scoring on all tuning items"), cancel=cancel)
+        report("scoring on all tuning items", 0, len(tuning) * len(alive))
+        full = grade_plans(project, engine, [Plan(w, tuning) for _, w in alive],
+                           params=params, on_event=staged("scoring on all tuning items"),
+                           cancel=cancel, what="scoring suggestions on all tuning items")
         outcome.model_calls += sum(r.model_calls for r in full)
         base_pass = {m.item_id: m.passed for m in marks}
         for (prop, wording), run in zip(alive, full):

@@ -1,0 +1,60 @@
+"""The project's generation settings: one record both fronts read, so the window and the
+CLI grade with the same settings and share the completion cache.
+
+Defaults come from the engine protocol's ``Params()``. A CLI flag overrides a setting for one
+run only (``override``); the window changes them for good (``Project.set_settings``).
+"""
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, fields, replace
+
+from .engines.base import Params
+
+_DEFAULT = Params()
+_PARAM_FIELDS = {f.name for f in fields(Params)}
+# "score" ranks the allowed labels by likelihood, "generate" lets the model write an answer.
+ANSWER_MODES = tuple(dict.fromkeys(("score", "generate",
+                                    getattr(_DEFAULT, "answer_mode", "generate"))))
+
+
+@dataclass(frozen=True)
+class ProjectSettings:
+    max_tokens: int = _DEFAULT.max_tokens
+    temperature: float = _DEFAULT.temperature
+    seed: int = _DEFAULT.seed
+    answer_mode: str = getattr(_DEFAULT, "answer_mode", "generate")
+
+    def validate(self) -> "ProjectSettings":
+        if not isinstance(self.max_tokens, int) or not 1 <= self.max_tokens <= 4096:
+            raise ValueError(f"max tokens must be a whole number from 1 to 4096, not "
+                             f"{self.max_tokens!r}")
+        if not 0.0 <= float(self.temperature) <= 2.0:
+            raise ValueError(f"temperature must be between 0 and 2, not {self.temperature!r}")
+        if not isinstance(self.seed, int):
+            raise ValueError(f"seed must be a whole number, not {self.seed!r}")
+        if self.answer_mode not in ANSWER_MODES:
+            raise ValueError(f"answer mode must be one of {', '.join(ANSWER_MODES)}, not "
+                             f"{self.answer_mode!r}")
+        return self
+
+    def override(self, **changes) -> "ProjectSettings":
+        """These settings with the given values replaced; None means "not given"."""
+        given = {k: v for k, v in changes.items() if v is not None}
+        return replace(self, **given).validate() if given else self
+
+    def params(self) -> Params:
+        """The engine parameters these settings stand for (part of every cache key)."""
+        kwargs = dict(max_tokens=self.max_tokens, temperature=float(self.temperature),
+                      seed=self.seed)
+        if "answer_mode" in _PARAM_FIELDS:
+            kwargs["answer_mode"] = self.answer_mode
+        return Params(**kwargs)
+
+    def as_dict(self) -> dict:
+        return asdict(self)
+
+    @classmethod
+    def from_dict(cls, saved: dict | None) -> "ProjectSettings":
+        """Read saved settings; unknown keys are ignored, missing ones take the defaults."""
+        known = {f.name for f in fields(cls)}
+        return cls(**{k: v for k, v in (saved or {}).items() if k in known})
