@@ -207,3 +207,22 @@ def test_opening_a_missing_project_is_refused(tmp_path):
     with pytest.raises(ValueError, match="does not exist"):
         Project.open(tmp_path / "missing")
     assert not (tmp_path / "missing.hone").exists()
+
+
+def test_preview_set_reads_without_writing(tmp_path, sample_dir):
+    from honebench.core.project import preview_set
+
+    head, mapping, problems, check = preview_set(sample_dir / "fare_arithmetic.csv")
+    assert len(head) > 0 and check.kind == "number" and mapping is not None
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_open_demo_builds_the_routing_project_once(tmp_path):
+    done = Project.open_demo(tmp_path / "demo")
+    project = done.value
+    assert done.changes == EVERYTHING and project.current_set()[1].path.endswith(
+        "passenger_desk_routing.csv")
+    project.close()
+    again = Project.open_demo(tmp_path / "demo").value
+    assert again.store.set_ids() == [1]
+    again.close()

@@ -33,7 +33,7 @@ from .wording import Wording
 
 __all__ = ["Project", "ShelfRow", "RunView", "SPLIT_WORDS", "ProjectSettings", "project_file",
            "projects_dir", "default_project_path", "demo_set_path", "read_question_set",
-           "column_mapping", "DEMO_NAME", "DEMO_SET", "PROJECT_SUFFIX"]
+           "column_mapping", "preview_set", "DEMO_NAME", "DEMO_SET", "PROJECT_SUFFIX"]
 
 
 def read_question_set(set_path: str | Path, mapping: ColumnMapping | None = None, *,
@@ -64,6 +64,16 @@ def column_mapping(set_path: str | Path, *, inputs=None, expected: str | None = 
     return ColumnMapping(inputs=tuple(inputs or guessed.inputs),
                          expected=expected or guessed.expected, id=id or guessed.id,
                          split=guessed.split)
+
+
+def preview_set(set_path: str | Path):
+    """What the import dialog shows before anything is stored: (first rows, guessed mapping
+    or None, problems found, the sample recipe's check or None). Writes nothing."""
+    from .sets import preview
+
+    head, mapping, problems = preview(set_path)
+    recipe = recipe_for(set_path)
+    return head, mapping, problems, CheckSpec.from_dict(recipe["check"]) if recipe else None
 
 
 class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):

@@ -22,7 +22,7 @@ __all__ = ["ColumnMapping", "Item", "QuestionSet", "SetError", "Problem", "read_
            "guess_mapping", "find_problems", "load_set", "preview", "split_items", "split_name"]
 
 TUNING, HELD_OUT = "tuning", "held_out"
-_SPLIT_WORDS = {
+_SPLIT_NAMES = {
     TUNING: ("tuning", "tune", "train", "training", "dev", "development"),
     HELD_OUT: ("held_out", "heldout", "holdout", "hold_out", "test", "testing"),
 }
@@ -122,7 +122,7 @@ class QuestionSet:
 def split_name(value: str) -> str | None:
     """"tuning" or "held_out" for a split column's value, None if it is not a split name."""
     key = re.sub(r"[\s\-]+", "_", str(value).strip().lower())
-    for split, words in _SPLIT_WORDS.items():
+    for split, words in _SPLIT_NAMES.items():
         if key in words:
             return split
     return None
