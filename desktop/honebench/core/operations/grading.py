@@ -78,7 +78,7 @@ class GradingOps:
             raise ValueError(f"The question set {qset.name} has no {SPLIT_WORDS[split]}. "
                              "Import it again with another split.")
         self.save_draft(wording)
-        entry = self.shelve(wording)
+        entry = self._shelve(wording)
         outcome = grade_wording(
             self, engine, wording, split=split, items=items, wording_id=entry.id,
             params=(settings or self.settings()).params(), on_event=on_event, cancel=cancel,
@@ -125,7 +125,7 @@ class GradingOps:
                                      "no model is loaded; load one, then compare again")
                 if on_event:
                     on_event(Stage(f"grading {name} on the {SPLIT_WORDS[split]}"))
-                entry = entry or self.shelve(wording)
+                entry = entry or self._shelve(wording)
                 run = self._finished_run(engine, wording, entry, split, settings, on_event,
                                          cancel)
                 changes = GRADED

@@ -50,7 +50,7 @@ class ImproveOps:
     def hone(self, engine, *, strategy: str = "scoreboard", budget=None,
              start: Wording | None = None, settings: ProjectSettings | None = None,
              on_round: Callable | None = None, on_event: Listener | None = None,
-             cancel: threading.Event | None = None):
+             cancel: threading.Event | None = None) -> Done:
         """Auto-hone rounds from ``start`` (default: the draft) within ``budget``
         (core.hone.HoneBudget). Each round is committed as it ends and sent to ``on_round``
         (a HoneRound) and as a Stage event. Returns Done[HoneOutcome]."""

@@ -34,7 +34,7 @@ class ShelfOps:
         self.store.set_note(wording_id, note)
         return Done(self.store.wording(wording_id), SHELF)
 
-    def shelve(self, wording: Wording, *, parent_id: int | None = None,
+    def _shelve(self, wording: Wording, *, parent_id: int | None = None,
                origin: str = "typed") -> ShelfEntry:
         """The wording's shelf entry, added as not decided when it is not there yet (what a
         grade does, so export, compare and the chart see every graded wording)."""
