@@ -11,7 +11,7 @@ import threading
 from pathlib import Path
 
 from .core.checks import CHECKS, CheckSpec
-from .core.engines.base import EngineError, Params
+from .core.engines.base import ANSWER_MODES, DEFAULT_MAX_TOKENS, EngineError, Params
 from .core.sets import SetError
 from .core.store import PROJECT_SUFFIX, StoreError
 from .core.wording import PLACEMENTS, Wording
@@ -110,7 +110,9 @@ def _engine_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--model", help="GGUF model file (default: bundled SmolLM2-135M-Instruct)")
     p.add_argument("--endpoint", help="OpenAI-protocol endpoint URL, e.g. http://127.0.0.1:8080/v1")
     p.add_argument("--endpoint-model", default="", help="model name to ask the endpoint for")
-    p.add_argument("--max-tokens", type=int, default=32)
+    p.add_argument("--max-tokens", type=int, default=DEFAULT_MAX_TOKENS)
+    p.add_argument("--answer-mode", choices=ANSWER_MODES, default="score",
+                   help="label checks: score each allowed label (default) or generate an answer")
     p.add_argument("--temperature", type=float, default=0.0)
     p.add_argument("--seed", type=int, default=0)
 
@@ -189,7 +191,8 @@ def _grade(args) -> int:
     from .core.grading import select_items
     items = select_items(qset, args.split)[: args.limit] if args.limit else None
     engine = open_engine(args)
-    params = Params(max_tokens=args.max_tokens, temperature=args.temperature, seed=args.seed)
+    params = Params(max_tokens=args.max_tokens, temperature=args.temperature, seed=args.seed,
+                    answer_mode=args.answer_mode)
     shown = [0]
 
     def progress(mark, prog):

@@ -20,7 +20,8 @@ def open_project(path: str | Path) -> Project:
 
 
 def _params(args) -> Params:
-    return Params(max_tokens=args.max_tokens, temperature=args.temperature, seed=args.seed)
+    return Params(max_tokens=args.max_tokens, temperature=args.temperature, seed=args.seed,
+                  answer_mode=getattr(args, "answer_mode", "score"))
 
 
 def _entry(project: Project, version: str | None):

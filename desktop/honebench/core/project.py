@@ -155,7 +155,7 @@ class Project:
         qset = self.store.get_set(run.set_id)
         check = CheckSpec.from_dict(run.check)
         return summarize(self.store.marks(run_id), qset.items, check.kind,
-                         check.labels or qset.labels())
+                         check.labels or qset.labels(), wall_seconds=run.wall_seconds)
 
     def close(self) -> None:
         self.store.close()
