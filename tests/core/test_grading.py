@@ -211,3 +211,14 @@ def test_real_model_score_and_generate_modes_with_separate_cache(project, local_
     assert again.model_calls == 0
     assert {m.item_id: (m.extracted, m.confidence) for m in again.marks} == {
         m.item_id: (m.extracted, m.confidence) for m in scored.marks}
+
+
+def test_a_generated_fallback_says_so_in_the_why(project):
+    class NoLogprobs(FakeEngine):
+        def score_labels(self, requests):
+            for req in requests:
+                yield Result(key=req.key, text="refund", note="the endpoint gave no logprobs")
+
+    outcome = _grade(project, NoLogprobs())
+    assert all("the endpoint gave no logprobs" in m.why and m.confidence is None
+               for m in outcome.marks)
