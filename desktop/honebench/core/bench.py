@@ -142,7 +142,9 @@ def run_bench(set_path: str | None = None, items: int = 24, model: str | None = 
                                    wording, check, params)
                 sides[mode].append(got)
                 threads = got[2]
+                out(f"  round {round_no + 1}: grader, {mode}: {got[0]:.2f} s")
             sides["hand"].append(_hand_loop(model_path, threads, prompts, BENCH_MAX_TOKENS))
+            out(f"  round {round_no + 1}: hand loop: {sides['hand'][-1][0]:.2f} s")
     return _report(sides, chosen, check, out)
 
 
