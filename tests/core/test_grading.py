@@ -1,13 +1,14 @@
 """Grade runs: streaming marks, the completion cache, cancel, item errors."""
 from __future__ import annotations
 
+import math
 import sqlite3
 import threading
 
 import pytest
 
 from honebench.core.checks import CheckSpec
-from honebench.core.engines.base import Params
+from honebench.core.engines.base import Params, Result
 from honebench.core.grading import Grader, cache_key, item_seed
 from honebench.core.project import Project
 from honebench.core.wording import Wording
@@ -142,3 +143,82 @@ def test_real_model_cancel_mid_run_keeps_finished_marks(project, local_engine):
     assert outcome.status == "cancelled"
     assert 3 <= len(outcome.marks) <= 4
     assert [m.item_id for m in project.store.marks(outcome.run_id)] == [m.item_id for m in outcome.marks]
+
+
+class ScoringFake(FakeEngine):
+    """A fake that can score labels: "timetable" most likely, then "refund"."""
+
+    def __init__(self):
+        super().__init__(lambda r: "refund")
+        self.scored = 0
+
+    def score_labels(self, requests):
+        for req in requests:
+            self.scored += 1
+            shares = [0.61 if lab == "timetable" else 0.22 if lab == "refund" else 0.0
+                      for lab in req.labels]
+            rest = (1 - sum(shares)) / max(1, shares.count(0.0))
+            shares = tuple(s or rest for s in shares)
+            yield Result(key=req.key, text="timetable", label_shares=shares,
+                         label_logprobs=tuple(math.log(s) for s in shares), seconds=0.001)
+
+
+def test_score_mode_asks_for_label_scores_and_records_confidence(project):
+    engine = ScoringFake()
+    outcome = _grade(project, engine)
+    assert engine.scored == len(outcome.marks) and engine.calls == 0
+    mark = outcome.marks[0]
+    assert mark.extracted == "timetable" and mark.confidence == pytest.approx(0.61)
+    assert (mark.runner_up, mark.runner_up_share) == ("refund", pytest.approx(0.22))
+    assert "label scoring: timetable 0.61, next refund 0.22" in mark.why
+    assert project.store.run(outcome.run_id).params["answer_mode"] == "score"
+    assert project.store.marks(outcome.run_id)[0].confidence == pytest.approx(0.61)
+    again = _grade(project, engine)  # from the cache, shares included
+    assert engine.scored == len(outcome.marks)
+    assert again.marks[0].confidence == pytest.approx(0.61) and again.marks[0].cached
+
+
+def test_generate_mode_and_other_checks_generate(project):
+    engine = ScoringFake()
+    outcome = _grade(project, engine, params=Params(answer_mode="generate"))
+    assert engine.scored == 0 and engine.calls == len(outcome.marks)
+    assert outcome.marks[0].confidence is None
+    assert project.store.run(outcome.run_id).params["answer_mode"] == "generate"
+    # a number check in score mode generates, and is recorded as such
+    other = _grade(project, engine, check=CheckSpec(kind="number"))
+    assert project.store.run(other.run_id).params["answer_mode"] == "generate"
+
+
+def test_cache_key_depends_on_answer_mode_and_extra():
+    assert cache_key("fp", Params(), "p") != cache_key("fp", Params(answer_mode="generate"), "p")
+    assert cache_key("fp", Params(), "p", "labels:a") != cache_key("fp", Params(), "p", "labels:b")
+
+
+@pytest.mark.model
+def test_real_model_score_and_generate_modes_with_separate_cache(project, local_engine):
+    _, qset = project.current_set()
+    items = qset.tuning()[:8]
+    scored = _grade(project, local_engine, items=items)
+    assert scored.model_calls == 8
+    assert all(m.extracted in project.check().labels and m.confidence is not None
+               for m in scored.marks)
+    assert all(0 < m.confidence <= 1 and m.runner_up for m in scored.marks)
+    generated = _grade(project, local_engine, items=items, params=Params(answer_mode="generate"))
+    assert generated.model_calls == 8  # not answered from the score-mode cache
+    assert all(m.confidence is None and m.completion_tokens > 0 for m in generated.marks)
+    assert all(m.completion_tokens <= Params().max_tokens for m in generated.marks)
+    again = _grade(project, local_engine, items=items)
+    assert again.model_calls == 0
+    assert {m.item_id: (m.extracted, m.confidence) for m in again.marks} == {
+        m.item_id: (m.extracted, m.confidence) for m in scored.marks}
+
+
+def test_a_generated_fallback_says_so_in_the_why(project):
+    class NoLogprobs(FakeEngine):
+        def score_labels(self, requests):
+            for req in requests:
+                yield Result(key=req.key, text="refund", note="the endpoint gave no logprobs")
+
+    outcome = _grade(project, NoLogprobs())
+    assert all("the endpoint gave no logprobs" in m.why and m.confidence is None
+               for m in outcome.marks)

@@ -116,3 +116,34 @@ def test_truncated_model_file_gives_clear_message(tmp_path):
         LocalEngine(cut)
     assert "could not load" in str(err.value) and "cut.gguf" in str(err.value)
     assert "Traceback" not in str(err.value)
+
+
+def test_callers_on_several_threads_are_served_one_at_a_time(local_engine):
+    """Counting, scoring and generating from different threads at once: every call goes
+    through the engine's one model thread, so all answer and none crashes."""
+    text = local_engine.render(_messages("Where is the ferry?"))
+    want = local_engine.count_tokens(text)
+    counts, scores, errors = [], [], []
+
+    def count():
+        try:
+            counts.extend(local_engine.count_tokens(text) for _ in range(20))
+        except Exception as exc:  # pragma: no cover - reported below
+            errors.append(exc)
+
+    def score():
+        try:
+            scores.append(local_engine.score_choices(_messages("Yes or no?"), ["Yes", "No"]))
+        except Exception as exc:  # pragma: no cover
+            errors.append(exc)
+
+    workers = [threading.Thread(target=count) for _ in range(3)] + [threading.Thread(target=score)]
+    for w in workers:
+        w.start()
+    results = list(local_engine.complete(
+        [Request(key=str(i), messages=_messages(f"Name port {i}."), max_tokens=6)
+         for i in range(4)]))
+    for w in workers:
+        w.join()
+    assert not errors and counts == [want] * 60 and len(scores) == 1
+    assert len(results) == 4 and all(r.error is None for r in results)

@@ -118,6 +118,16 @@ def make_handler(state: FakeServer):
                 return self._send(200, b"<html>proxy error</html>")
             if user == "no-choices":
                 return self._send(200, {"object": "chat.completion", "choices": []})
+            if user == "with-logprobs":  # the documented choices[].logprobs.content shape
+                top = [{"token": "Time", "logprob": -0.5}, {"token": " ref", "logprob": -1.2},
+                       {"token": "Hello", "logprob": -2.0}]
+                return self._send(200, {
+                    "object": "chat.completion", "choices": [{
+                        "index": 0, "finish_reason": "length",
+                        "message": {"role": "assistant", "content": "Timetable"},
+                        "logprobs": {"content": [{"token": "Time", "logprob": -0.5,
+                                                  "top_logprobs": top}]}}],
+                    "usage": {"prompt_tokens": 11, "completion_tokens": 1}})
             self._send(200, {
                 "id": "chatcmpl-1", "object": "chat.completion", "created": 0,
                 "model": MODEL_ID,
@@ -467,3 +477,25 @@ def test_malformed_bodies_never_raise(body):
 
 def test_deeply_nested_body_is_an_error():
     assert "not JSON" in read_reply("k", b"[" * 100_000).error
+
+
+# --- label scoring through logprobs ---------------------------------------------------------
+def test_label_scores_come_from_the_first_token_logprobs(server, make_engine):
+    engine = make_engine(server.base_url, MODEL_ID)
+    labels = ("refund", "timetable", "lost_property")
+    result = next(iter(engine.score_labels([ask("a", "with-logprobs", labels=labels)])))
+    assert server.bodies[-1]["logprobs"] is True and server.bodies[-1]["top_logprobs"] == 20
+    assert result.text == "timetable" and not result.note
+    # worked by hand: refund -1.2 (" ref"), timetable -0.5 ("Time"), lost_property is not
+    # listed, so it gets the smallest listed value minus log 2
+    assert result.label_logprobs == pytest.approx((-1.2, -0.5, -2.0 - math.log(2)))
+    assert sum(result.label_shares) == pytest.approx(1.0)
+    assert result.label_shares[1] == pytest.approx(
+        math.exp(-0.5) / (math.exp(-0.5) + math.exp(-1.2) + math.exp(-2.0) / 2))
+
+
+def test_a_server_without_logprobs_falls_back_to_the_generated_answer(server, make_engine):
+    engine = make_engine(server.base_url, MODEL_ID)
+    result = next(iter(engine.score_labels([ask("a", "plain", labels=("refund", "timetable"))])))
+    assert result.text == "answer to plain" and result.label_shares == ()
+    assert "no logprobs" in result.note and "generated" in result.note

@@ -79,3 +79,37 @@ def test_a_file_that_is_not_sqlite_is_refused_clearly(tmp_path):
     with pytest.raises(StoreError, match="not a honebench project file"):
         Store(path)
     assert path.read_text().startswith("shopping list")  # untouched
+
+
+def test_schema_2_file_opens_and_gains_label_scoring_columns(tmp_path):
+    """A project written by schema 2 (before label scoring) migrates to 3 in place: its
+    marks and cached answers are kept, new marks carry confidence and runner-up."""
+    from honebench.core.store import MIGRATIONS
+
+    path = tmp_path / "old.hone"
+    conn = sqlite3.connect(path)
+    for script in MIGRATIONS[:2]:
+        conn.executescript(script)
+    conn.execute("PRAGMA user_version=2")
+    conn.execute("INSERT INTO question_sets VALUES(1,'s','s.csv','h','{}',0,0.3,1,'now')")
+    conn.execute("INSERT INTO runs(id, set_id, wording_text, placement, split, fingerprint, "
+                 "params, check_spec, started_at, status, n_items) "
+                 "VALUES(1,1,'w','before','tuning','fp','{}','{}','now','finished',1)")
+    conn.execute("INSERT INTO marks VALUES(1,'a',0,'refund','refund',1,1.0,'ok',3,1,0.1,NULL,0,'p')")
+    conn.execute("INSERT INTO completion_cache VALUES('k','fp','{}','p','refund',3,1,0.1,'stop','now')")
+    conn.commit()
+    conn.close()
+    store = Store(path)
+    assert sqlite3.connect(path).execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION == 3
+    old = store.marks(1)[0]
+    assert (old.output, old.confidence, old.runner_up) == ("refund", None, None)
+    assert store.cache_get("k")["label_scores"] == ""
+    assert store.run(1).wall_seconds is None
+    store.add_mark(1, Mark(item_id="b", output="timetable", extracted="timetable", passed=True,
+                           why="ok", confidence=0.61, runner_up="refund",
+                           runner_up_share=0.22), 1)
+    store.finish_run(1, "finished", 12.5)
+    new = {m.item_id: m for m in Store(path).marks(1)}["b"]
+    assert new.choice_text == "timetable 0.61, next refund 0.22"
+    assert new.as_dict()["runner_up_share"] == 0.22
+    assert store.run(1).wall_seconds == 12.5

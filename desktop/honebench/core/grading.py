@@ -4,19 +4,26 @@ Items whose exact prompt was answered before by the same model with the same set
 from the completion cache and cost no model time. The rest go to the engine in one batch
 call; marks stream back as they finish, each committed to the project file on arrival.
 Cancel keeps every finished mark; an item the model fails on becomes an error mark.
+
+Answer modes (``Params.answer_mode``): "score" asks the engine, for a label check, how
+likely each allowed label is and takes the most likely (label scoring, no generation);
+"generate" and every other check generate an answer, stopped as soon as the check can
+decide (answer_stops.py). The mode actually used is in the run record and the cache key.
 """
 from __future__ import annotations
 
 import hashlib
+import json
 import threading
 import time
 from dataclasses import dataclass, replace
 from typing import Callable, Sequence
 
+from .answer_stops import stop_rule
 from .checks import CheckSpec, judge
 from .engines.base import Engine, Params, Request, Result
 from .events import Progress
-from .records import Mark
+from .records import Mark, choice_text
 from .sets import Item, QuestionSet
 from .store import Store
 from .wording import Wording, build_prompt
@@ -33,9 +40,20 @@ class RunOutcome:
     model_calls: int
 
 
-def cache_key(fingerprint: str, params: Params, prompt: str) -> str:
-    raw = "\x1f".join((fingerprint, repr(sorted(params.as_dict().items())), prompt))
+def cache_key(fingerprint: str, params: Params, prompt: str, extra: str = "") -> str:
+    """``extra``: anything else that changes the answer (the labels scored, the stop rule)."""
+    parts = (fingerprint, repr(sorted(params.as_dict().items())), prompt)
+    raw = "\x1f".join(parts + ((extra,) if extra else ()))
     return hashlib.sha256(raw.encode("utf-8")).hexdigest()
+
+
+def answer_mode(params: Params, check: CheckSpec, engine: Engine) -> str:
+    """The mode a run really uses: label scoring only for a label check with labels, on an
+    engine that can score."""
+    if (params.answer_mode == "score" and check.kind == "label" and check.labels
+            and hasattr(engine, "score_labels")):
+        return "score"
+    return "generate"
 
 
 def item_seed(base: int, item_id: str) -> int:
@@ -98,6 +116,7 @@ class Grader:
         if not check.labels and check.kind == "label":
             check = replace(check, labels=tuple(qset.labels()))
         fingerprint = self.engine.fingerprint()
+        params = replace(params, answer_mode=answer_mode(params, check, self.engine))
         cancel = cancel or threading.Event()
         tally = _Tally(sum(len(p.items) for p in plans))
         runs = [_Run(self.store.start_run(
@@ -105,6 +124,7 @@ class Grader:
             split=p.split, fingerprint=fingerprint, params=params.as_dict(),
             check=check.as_dict(), n_items=len(p.items), wording_id=p.wording_id), p)
             for p in plans]
+        scoring = params.answer_mode == "score"
 
         def record(index: int, item: Item, result: Result, prompt: str) -> None:
             run = runs[index]
@@ -118,16 +138,18 @@ class Grader:
         try:
             pending = []
             for index, run in enumerate(runs):
-                pending += self._answer_from_cache(index, run.plan, params, fingerprint, record)
+                pending += self._answer_from_cache(index, run.plan, params, check, fingerprint,
+                                                   record)
             requests = [] if cancel.is_set() else [req for _, _, req, _, _ in pending]
             by_key = {req.key: (index, item, prompt, key)
                       for index, item, req, prompt, key in pending}
             tally.model_start = time.perf_counter()
+            ask = self.engine.score_labels if scoring else self.engine.complete
             with _CancelWatcher(cancel, self.engine):
-                for result in self.engine.complete(requests):
+                for result in ask(requests):
                     index, item, prompt, key = by_key[result.key]
                     if result.error is None:
-                        self._remember(key, fingerprint, params, prompt, result)
+                        self._remember(key, fingerprint, params, prompt, result, check.labels)
                     tally.model_calls += 1
                     runs[index].calls += 1
                     record(index, item, result, prompt)
@@ -138,42 +160,61 @@ class Grader:
                 run.status = ("cancelled" if cancel.is_set() and len(run.marks) < len(run.plan.items)
                               else "finished" if len(run.marks) == len(run.plan.items)
                               else "failed")
-                self.store.finish_run(run.id, run.status)
+                self.store.finish_run(run.id, run.status, tally.elapsed())
         return [RunOutcome(r.id, r.status, tuple(r.marks), tally.elapsed(), r.calls)
                 for r in runs]
 
-    def _answer_from_cache(self, index: int, plan: Plan, params, fingerprint, record):
+    def _answer_from_cache(self, index: int, plan: Plan, params: Params, check: CheckSpec,
+                           fingerprint: str, record):
         """Record cached answers at once; return (index, item, request, prompt, key) for
         the rest."""
         items, wording = plan.items, plan.wording
         names = list(items[0].fields) if items else []
         prefix = shared_prefix_chars(self.engine, wording, names)
+        rule = stop_rule(check, wording.text)
+        scoring = params.answer_mode == "score"
+        labels = tuple(check.labels) if scoring else ()
+        extra = ("labels:" + "\x1e".join(labels) if scoring
+                 else "" if rule is None else repr(rule))
         pending = []
         for item in items:
             built = build_prompt(wording, item.fields)
             prompt = self.engine.render(built.messages, built.prefill)
             seed = item_seed(params.seed, item.id) if params.temperature > 0 else params.seed
-            key = cache_key(fingerprint, replace(params, seed=seed), prompt)
+            key = cache_key(fingerprint, replace(params, seed=seed), prompt, extra)
             hit = self.store.cache_get(key)
             if hit is not None:
-                record(index, item, Result(key=item.id, text=hit["text"], cached=True,
-                                           prompt_tokens=hit["prompt_tokens"],
-                                           completion_tokens=hit["completion_tokens"],
-                                           finish_reason=hit["finish_reason"]), prompt)
+                record(index, item, _cached_result(item.id, hit), prompt)
                 continue
             pending.append((index, item, Request(
                 key=f"{index}\x1f{item.id}", messages=built.messages, prefill=built.prefill,
                 max_tokens=params.max_tokens, stop=params.stop,
-                temperature=params.temperature, seed=seed, prefix_chars=prefix), prompt, key))
+                temperature=params.temperature, seed=seed, prefix_chars=prefix,
+                labels=labels, until=rule), prompt, key))
         return pending
 
     def _remember(self, key: str, fingerprint: str, params: Params, prompt: str,
-                  result: Result) -> None:
+                  result: Result, labels: Sequence[str]) -> None:
+        scores = ""
+        if result.label_shares:
+            scores = json.dumps({"labels": list(labels), "logprobs": list(result.label_logprobs),
+                                 "shares": list(result.label_shares)})
+        elif result.note:
+            scores = json.dumps({"note": result.note})
         self.store.cache_put(
             key, fingerprint=fingerprint,
             params=repr(params.as_dict()), prompt=prompt, text=result.text,
             prompt_tokens=result.prompt_tokens, completion_tokens=result.completion_tokens,
-            seconds=result.seconds, finish_reason=result.finish_reason)
+            seconds=result.seconds, finish_reason=result.finish_reason, label_scores=scores)
+
+
+def _cached_result(item_id: str, hit) -> Result:
+    saved = json.loads(hit["label_scores"]) if hit["label_scores"] else {}
+    return Result(key=item_id, text=hit["text"], cached=True,
+                  prompt_tokens=hit["prompt_tokens"], completion_tokens=hit["completion_tokens"],
+                  finish_reason=hit["finish_reason"],
+                  label_logprobs=tuple(saved.get("logprobs", ())),
+                  label_shares=tuple(saved.get("shares", ())), note=saved.get("note", ""))
 
 
 def _mark(item: Item, result: Result, prompt: str, check: CheckSpec) -> Mark:
@@ -182,10 +223,23 @@ def _mark(item: Item, result: Result, prompt: str, check: CheckSpec) -> Mark:
                     why=f"error: {result.error}", error=result.error, prompt=prompt,
                     prompt_tokens=result.prompt_tokens, seconds=result.seconds)
     verdict = judge(result.text, item.expected, check)
+    why, scored = verdict.why, {}
+    if result.label_shares and len(result.label_shares) == len(check.labels):
+        order = sorted(range(len(check.labels)), key=lambda i: -result.label_shares[i])
+        best = order[0]
+        scored = {"confidence": result.label_shares[best]}
+        if len(order) > 1:
+            scored.update(runner_up=check.labels[order[1]],
+                          runner_up_share=result.label_shares[order[1]])
+        shown = choice_text(check.labels[best], scored["confidence"], scored.get("runner_up"),
+                            scored.get("runner_up_share"))
+        why = f"{why}; label scoring: {shown}"
+    if result.note:
+        why = f"{why}; {result.note}"
     return Mark(item_id=item.id, output=result.text, extracted=verdict.extracted,
-                passed=verdict.passed, why=verdict.why, score=verdict.score,
+                passed=verdict.passed, why=why, score=verdict.score,
                 prompt_tokens=result.prompt_tokens, completion_tokens=result.completion_tokens,
-                seconds=result.seconds, cached=result.cached, prompt=prompt)
+                seconds=result.seconds, cached=result.cached, prompt=prompt, **scored)
 
 
 class _Run:

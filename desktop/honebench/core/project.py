@@ -237,7 +237,7 @@ class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
         qset = self.store.get_set(run.set_id)
         check = CheckSpec.from_dict(run.check)
         return summarize(self.store.marks(run_id), qset.items, check.kind,
-                         check.labels or qset.labels())
+                         check.labels or qset.labels(), wall_seconds=run.wall_seconds)
 
     def run_view(self, run_id: int) -> RunView:
         return RunView(self.store.run(run_id), self.store.marks(run_id), self.summary(run_id))

@@ -20,6 +20,15 @@ class Mark:
     error: str | None = None
     cached: bool = False
     prompt: str = ""
+    # label scoring: the chosen label's share among the labels, and the next most likely
+    confidence: float | None = None
+    runner_up: str | None = None
+    runner_up_share: float | None = None
+
+    @property
+    def choice_text(self) -> str:
+        """"timetable 0.61, next refund 0.22" for a scored label; "" otherwise."""
+        return choice_text(self.extracted, self.confidence, self.runner_up, self.runner_up_share)
 
     def as_dict(self) -> dict:
         return {
@@ -35,7 +44,21 @@ class Mark:
             "seconds": round(self.seconds, 4),
             "error": self.error,
             "cached": self.cached,
+            "confidence": self.confidence,
+            "runner_up": self.runner_up,
+            "runner_up_share": self.runner_up_share,
         }
+
+
+def choice_text(chosen: str, share: float | None, runner_up: str | None = None,
+                runner_share: float | None = None) -> str:
+    """A scored label and the next most likely: "timetable 0.61, next refund 0.22"."""
+    if share is None:
+        return ""
+    text = f"{chosen} {share:.2f}"
+    if runner_up is not None and runner_share is not None:
+        text += f", next {runner_up} {runner_share:.2f}"
+    return text
 
 
 @dataclass(frozen=True)
@@ -75,3 +98,4 @@ class RunInfo:
     finished_at: str | None
     status: str
     n_items: int
+    wall_seconds: float | None = None  # from start to end of the run, on the clock

@@ -8,12 +8,15 @@ Nothing here writes anything.
 """
 from __future__ import annotations
 
+import contextlib
+import gc
 import hashlib
 import json
 import os
 import re
 from dataclasses import dataclass
 
+import numpy as np
 import pandas as pd
 
 from .set_reading import Problem, SetError, quote, read_table
@@ -142,8 +145,16 @@ def split_items(ids, seed: int, held_out_fraction: float) -> dict[str, str]:
         count = max(count, 1)
     if n >= 2 and held_out_fraction < 1:
         count = min(count, n - 1)
-    order = sorted(ids, key=lambda i: (hashlib.sha256(f"{seed}:{i}".encode()).hexdigest(), i))
-    held = set(order[:count])
+    sha = hashlib.sha256
+    digests = [sha(f"{seed}:{i}".encode()).digest() for i in ids]
+    # the order of the hex digests (then the id) is the order of the raw digests; the first
+    # 8 bytes as numbers decide it unless two ids share them (then the full sort)
+    heads = np.frombuffer(b"".join(d[:8] for d in digests), dtype=">u8")
+    if len(np.unique(heads)) == n:
+        chosen = np.argsort(heads, kind="stable")[:count]
+        held = {ids[k] for k in chosen.tolist()}
+    else:
+        held = {i for _, i in sorted(zip(digests, ids))[:count]}
     return {i: HELD_OUT if i in held else TUNING for i in ids}
 
 
@@ -291,8 +302,22 @@ def _split_problems(table: pd.DataFrame, column: str, word: str) -> list[Problem
 def content_hash(items, mapping: ColumnMapping) -> str:
     """sha256 over ids, input names and texts, expected answers (and the split when a split
     column is mapped), in id order, as compact UTF-8 JSON."""
-    rows = sorted([i.id, [i.fields[c] for c in mapping.inputs], i.expected]
-                  + ([i.split] if mapping.split else []) for i in items)
+    return _hash_rows([i.id for i in items], [[i.fields[c] for i in items] for c in mapping.inputs],
+                      [i.expected for i in items],
+                      [i.split for i in items] if mapping.split else None, mapping)
+
+
+def _hash_rows(ids: list[str], inputs: list[list[str]], expected: list[str],
+               splits: list[str] | None, mapping: ColumnMapping) -> str:
+    """``content_hash`` from columns. Ids are distinct (a loaded set guarantees it), so
+    ordering rows by id alone is the order of the rows themselves."""
+    texts = list(zip(*inputs)) if inputs else [()] * len(ids)
+    extra = ([(s,) for s in splits] if splits is not None else [()] * len(ids))
+    rows = [(i, t, e) + x for i, t, e, x in zip(ids, texts, expected, extra)]
+    if len(set(ids)) == len(ids):
+        rows.sort(key=lambda r: r[0])
+    else:  # only for hand-made item lists: the full row order, as before
+        rows = sorted([[r[0], list(r[1]), *r[2:]] for r in rows])
     canonical = json.dumps({"inputs": list(mapping.inputs), "items": rows},
                            ensure_ascii=False, separators=(",", ":"))
     return hashlib.sha256(canonical.encode("utf-8", "surrogatepass")).hexdigest()
@@ -327,13 +352,37 @@ def load_set(path, mapping: ColumnMapping | None = None, *, split_seed: int = 0,
     else:
         drawn = split_items(ids, split_seed, held_out_fraction)
         splits = [drawn[i] for i in ids]
-    columns = {c: table[c].tolist() for c in mapping.inputs}
+    columns = [table[c].tolist() for c in mapping.inputs]
     expected = table[mapping.expected].tolist()
-    items = tuple(
-        Item(ids[n], {c: columns[c][n] for c in mapping.inputs}, expected[n], splits[n], rows[n])
-        for n in range(len(table)))
+    names = list(mapping.inputs)
+    if len(names) == 1:
+        fields = [{names[0]: v} for v in columns[0]]
+    else:
+        fields = [dict(zip(names, values)) for values in zip(*columns)]
+    with _gc_paused():  # 100,000 new objects would set off many full collections
+        items = tuple(map(_item, ids, fields, expected, splits, rows))
+    digest = _hash_rows(ids, columns, expected, splits if mapping.split else None, mapping)
     return QuestionSet(os.path.splitext(os.path.basename(path))[0], path, mapping, items,
-                       content_hash(items, mapping), split_seed, held_out_fraction)
+                       digest, split_seed, held_out_fraction)
+
+
+@contextlib.contextmanager
+def _gc_paused():
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
+
+
+def _item(id_: str, fields: dict, expected: str, split: str, row: int) -> Item:
+    """An Item without the frozen dataclass's per-field checks (six times faster, for sets
+    of 100,000 rows); the same object as ``Item(...)``."""
+    item = object.__new__(Item)
+    item.__dict__.update(id=id_, fields=fields, expected=expected, split=split, row=row)
+    return item
 
 
 def preview(path, rows: int = 5) -> tuple[pd.DataFrame, ColumnMapping | None, list[str]]:

@@ -16,60 +16,8 @@ from typing import Iterable
 
 from .records import Mark, RunInfo, ShelfEntry
 from .sets import ColumnMapping, Item, QuestionSet
+from .store_schema import MIGRATIONS
 
-MIGRATIONS: tuple[str, ...] = (
-    # 1: first schema
-    """
-    CREATE TABLE settings (key TEXT PRIMARY KEY, value TEXT NOT NULL);
-    CREATE TABLE question_sets (
-        id INTEGER PRIMARY KEY, name TEXT NOT NULL, path TEXT NOT NULL,
-        content_hash TEXT NOT NULL, mapping TEXT NOT NULL, split_seed INTEGER NOT NULL,
-        held_out_fraction REAL NOT NULL, n_items INTEGER NOT NULL, added_at TEXT NOT NULL,
-        UNIQUE (content_hash, mapping, split_seed, held_out_fraction));
-    CREATE TABLE items (
-        set_id INTEGER NOT NULL REFERENCES question_sets(id), item_id TEXT NOT NULL,
-        position INTEGER NOT NULL, fields TEXT NOT NULL, expected TEXT NOT NULL,
-        split TEXT NOT NULL, row INTEGER NOT NULL, PRIMARY KEY (set_id, item_id));
-    CREATE TABLE wordings (
-        id INTEGER PRIMARY KEY, version INTEGER NOT NULL UNIQUE, text TEXT NOT NULL,
-        placement TEXT NOT NULL, parent_id INTEGER REFERENCES wordings(id),
-        origin TEXT NOT NULL, inputs TEXT NOT NULL DEFAULT '{}', note TEXT NOT NULL DEFAULT '',
-        decision TEXT NOT NULL DEFAULT '', created_at TEXT NOT NULL);
-    CREATE TABLE decisions (
-        id INTEGER PRIMARY KEY, wording_id INTEGER NOT NULL REFERENCES wordings(id),
-        verdict TEXT NOT NULL, note TEXT NOT NULL DEFAULT '', at TEXT NOT NULL);
-    CREATE TABLE runs (
-        id INTEGER PRIMARY KEY, set_id INTEGER NOT NULL REFERENCES question_sets(id),
-        wording_id INTEGER REFERENCES wordings(id), wording_text TEXT NOT NULL,
-        placement TEXT NOT NULL, split TEXT NOT NULL, fingerprint TEXT NOT NULL,
-        params TEXT NOT NULL, check_spec TEXT NOT NULL, started_at TEXT NOT NULL,
-        finished_at TEXT, status TEXT NOT NULL, n_items INTEGER NOT NULL);
-    CREATE TABLE marks (
-        run_id INTEGER NOT NULL REFERENCES runs(id), item_id TEXT NOT NULL,
-        seq INTEGER NOT NULL, output TEXT NOT NULL, extracted TEXT NOT NULL,
-        passed INTEGER NOT NULL, score REAL NOT NULL, why TEXT NOT NULL,
-        prompt_tokens INTEGER NOT NULL, completion_tokens INTEGER NOT NULL,
-        seconds REAL NOT NULL, error TEXT, cached INTEGER NOT NULL, prompt TEXT NOT NULL,
-        PRIMARY KEY (run_id, item_id));
-    CREATE TABLE completion_cache (
-        key TEXT PRIMARY KEY, fingerprint TEXT NOT NULL, params TEXT NOT NULL,
-        prompt TEXT NOT NULL, text TEXT NOT NULL, prompt_tokens INTEGER NOT NULL,
-        completion_tokens INTEGER NOT NULL, seconds REAL NOT NULL,
-        finish_reason TEXT NOT NULL, created_at TEXT NOT NULL);
-    """,
-    # 2: auto-hone sessions and their rounds
-    """
-    CREATE TABLE hone_sessions (
-        id INTEGER PRIMARY KEY, strategy TEXT NOT NULL, budget TEXT NOT NULL,
-        started_at TEXT NOT NULL, finished_at TEXT, stop_reason TEXT NOT NULL DEFAULT '');
-    CREATE TABLE hone_rounds (
-        session_id INTEGER NOT NULL REFERENCES hone_sessions(id), number INTEGER NOT NULL,
-        best_text TEXT NOT NULL, best_passed INTEGER NOT NULL, best_total INTEGER NOT NULL,
-        kept_id INTEGER REFERENCES wordings(id), held_passed INTEGER, held_total INTEGER,
-        suggestions INTEGER NOT NULL, dropped INTEGER NOT NULL, model_calls INTEGER NOT NULL,
-        seconds REAL NOT NULL, at TEXT NOT NULL, PRIMARY KEY (session_id, number));
-    """,
-)
 SCHEMA_VERSION = len(MIGRATIONS)
 PROJECT_SUFFIX = ".hone"
 
@@ -256,16 +204,18 @@ class Store:
         with self._tx() as c:
             c.execute(
                 "INSERT OR REPLACE INTO marks(run_id, item_id, seq, output, extracted, passed, "
-                "score, why, prompt_tokens, completion_tokens, seconds, error, cached, prompt) "
-                "VALUES(?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                "score, why, prompt_tokens, completion_tokens, seconds, error, cached, prompt, "
+                "confidence, runner_up, runner_up_share) VALUES(?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
                 (run_id, mark.item_id, seq, mark.output, mark.extracted, int(mark.passed),
                  mark.score, mark.why, mark.prompt_tokens, mark.completion_tokens, mark.seconds,
-                 mark.error, int(mark.cached), mark.prompt),
+                 mark.error, int(mark.cached), mark.prompt, mark.confidence, mark.runner_up,
+                 mark.runner_up_share),
             )
 
-    def finish_run(self, run_id: int, status: str) -> None:
+    def finish_run(self, run_id: int, status: str, wall_seconds: float | None = None) -> None:
         with self._tx() as c:
-            c.execute("UPDATE runs SET status=?, finished_at=? WHERE id=?", (status, now(), run_id))
+            c.execute("UPDATE runs SET status=?, finished_at=?, wall_seconds=? WHERE id=?",
+                      (status, now(), wall_seconds, run_id))
 
     def run(self, run_id: int) -> RunInfo:
         row = self._conn().execute("SELECT * FROM runs WHERE id=?", (run_id,)).fetchone()
@@ -285,7 +235,8 @@ class Store:
                      passed=bool(r["passed"]), why=r["why"], score=r["score"],
                      prompt_tokens=r["prompt_tokens"], completion_tokens=r["completion_tokens"],
                      seconds=r["seconds"], error=r["error"], cached=bool(r["cached"]),
-                     prompt=r["prompt"]) for r in rows]
+                     prompt=r["prompt"], confidence=r["confidence"], runner_up=r["runner_up"],
+                     runner_up_share=r["runner_up_share"]) for r in rows]
 
     def run_counts(self, run_id: int) -> tuple[int, int]:
         """(passed, graded) for a run."""
@@ -330,12 +281,15 @@ class Store:
 
     def cache_put(self, key: str, *, fingerprint: str, params: str, prompt: str, text: str,
                   prompt_tokens: int, completion_tokens: int, seconds: float,
-                  finish_reason: str) -> None:
+                  finish_reason: str, label_scores: str = "") -> None:
+        """``label_scores``: JSON of a scored answer's labels, log-probabilities and shares."""
         with self._tx() as c:
             c.execute(
-                "INSERT OR REPLACE INTO completion_cache VALUES(?,?,?,?,?,?,?,?,?,?)",
+                "INSERT OR REPLACE INTO completion_cache(key, fingerprint, params, prompt, text, "
+                "prompt_tokens, completion_tokens, seconds, finish_reason, created_at, "
+                "label_scores) VALUES(?,?,?,?,?,?,?,?,?,?,?)",
                 (key, fingerprint, params, prompt, text, prompt_tokens, completion_tokens,
-                 seconds, finish_reason, now()),
+                 seconds, finish_reason, now(), label_scores),
             )
 
 
@@ -372,4 +326,5 @@ def _run(r: sqlite3.Row) -> RunInfo:
                    wording_text=r["wording_text"], placement=r["placement"], split=r["split"],
                    fingerprint=r["fingerprint"], params=json.loads(r["params"]),
                    check=json.loads(r["check_spec"]), started_at=r["started_at"],
-                   finished_at=r["finished_at"], status=r["status"], n_items=r["n_items"])
+                   finished_at=r["finished_at"], status=r["status"], n_items=r["n_items"],
+                   wall_seconds=r["wall_seconds"])

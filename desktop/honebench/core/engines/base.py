@@ -31,6 +31,8 @@ class Request:
     temperature: float = 0.0
     seed: int = 0
     prefix_chars: int = 0
+    labels: tuple[str, ...] = ()  # for ``score_labels``: the allowed answers to score
+    until: "StopRule | None" = None  # stop generating once the check can decide
 
 
 @dataclass(frozen=True)
@@ -45,16 +47,39 @@ class Result:
     finish_reason: str = ""
     error: str | None = None
     cached: bool = False
+    # label scoring: per request label, its log-probability and its share among the labels
+    label_logprobs: tuple[float, ...] = ()
+    label_shares: tuple[float, ...] = ()
+    note: str = ""  # e.g. why an engine generated instead of scoring
+
+
+class StopRule(Protocol):
+    """Where to cut a growing answer: the index to cut ``text`` at, or None to go on."""
+
+    def cut(self, text: str) -> int | None: ...
+
+
+ANSWER_MODES = ("score", "generate")
+DEFAULT_MAX_TOKENS = 48  # the one project-wide default answer budget
 
 
 @dataclass(frozen=True)
 class Params:
-    """Generation settings that change the output; part of every cache key."""
+    """Generation settings that change the output; part of every cache key.
 
-    max_tokens: int = 64
+    ``answer_mode`` "score" means: for a label check, score each allowed label instead of
+    generating an answer; other checks always generate.
+    """
+
+    max_tokens: int = DEFAULT_MAX_TOKENS
     temperature: float = 0.0
     stop: tuple[str, ...] = field(default_factory=tuple)
     seed: int = 0
+    answer_mode: str = "score"
+
+    def __post_init__(self):
+        if self.answer_mode not in ANSWER_MODES:
+            raise ValueError(f"answer mode must be score or generate, not {self.answer_mode!r}")
 
     def as_dict(self) -> dict:
         return {
@@ -62,6 +87,7 @@ class Params:
             "temperature": self.temperature,
             "stop": list(self.stop),
             "seed": self.seed,
+            "answer_mode": self.answer_mode,
         }
 
 
@@ -75,6 +101,10 @@ class Engine(Protocol):
 
     def score_choices(self, messages: Sequence[dict], choices: Sequence[str]) -> list[float]:
         """Log-probability of each choice as the start of the answer."""
+
+    # Optional: ``score_labels(requests) -> Iterator[Result]`` scores ``Request.labels`` for
+    # each request (Result.text is the chosen label, label_shares the shares). An engine
+    # without it is asked to generate instead.
 
     def fingerprint(self) -> str: ...
 

@@ -1,8 +1,9 @@
 """Several items decoded together in one llama.cpp context (continuous batching).
 
 The shared prompt prefix is evaluated once into sequence 0 and copied into each item's
-sequence; every item's own part is evaluated on its own, then all active items advance one
-token per ``llama_decode`` call. When an item finishes, the next one takes its slot at once,
+sequence. Each ``llama_decode`` call then carries one next token for every active item and
+the whole own part (suffix) of every item that has just taken a free slot, so items starting
+together are evaluated together. When an item finishes, the next one takes its slot at once,
 so the model is never idle between items. Runs only on the engine's owner thread.
 """
 from __future__ import annotations
@@ -31,17 +32,29 @@ class Job:
 
 
 class BatchDecoder:
+    n_seq_max = 64  # sequences in the context: items, and label continuations when scoring
+    # Pack the own parts of items that start together into one decode with the running
+    # items' next tokens. Off for generation: llama.cpp's logits for a token move slightly
+    # (up to ~0.5 in a logit, measured) with how decode calls are split and where the item
+    # sits in memory, enough to change a greedy token now and then, so a packed item's text
+    # could differ from the same item run alone. Label scoring always packs (a label choice
+    # rarely moves, and the speed matters most there).
+    pack = False
+
     def __init__(self, llm, *, n_ctx: int, n_seq: int, n_threads: int,
                  cancelled: Callable[[], bool]):
         import llama_cpp
 
-        self.lib, self.llm, self.n_seq = llama_cpp, llm, n_seq
+        self.lib, self.llm, self.n_seq = llama_cpp, llm, min(n_seq, self.n_seq_max - 1)
         self.cancelled = cancelled
         params = llama_cpp.llama_context_default_params()
         params.n_ctx = n_ctx
         params.n_batch = params.n_ubatch = 512
-        params.n_seq_max = n_seq + 1
+        params.n_seq_max = self.n_seq_max
         params.kv_unified = True
+        # Flash attention on: an item's logits then do not depend on which other items sit
+        # in memory (without it they moved by up to 0.5 in a logit, measured).
+        params.flash_attn_type = llama_cpp.LLAMA_FLASH_ATTN_TYPE_ENABLED
         params.n_threads = params.n_threads_batch = n_threads
         self.ctx = llama_cpp.llama_init_from_model(llm._model.model, params)
         if not self.ctx:
@@ -53,7 +66,7 @@ class BatchDecoder:
         self._no_abort = llama_cpp.ggml_abort_callback()
         self._abort_on = False
         self.mem = llama_cpp.llama_get_memory(self.ctx)
-        self.batch = llama_cpp.llama_batch_init(512, 0, n_seq + 1)
+        self.batch = llama_cpp.llama_batch_init(512, 0, self.n_seq_max)
         vocab = llama_cpp.llama_model_get_vocab(llm._model.model)
         self.vocab = vocab
         self.n_vocab = llama_cpp.llama_vocab_n_tokens(vocab)
@@ -67,35 +80,51 @@ class BatchDecoder:
             self.ctx = None
 
     # -- low-level helpers ---------------------------------------------------------------
-    def _decode(self, entries: list[tuple[int, int, int, bool]], abortable: bool = True) -> None:
-        """Decode (token, position, sequence, wants_logits) entries, 512 at a time."""
+    def decode_rows(self, entries: list[tuple[int, int, int, bool]],
+                    abortable: bool = True) -> list[np.ndarray]:
+        """Decode (token, position, sequence, wants_logits) entries, 512 per call; a copy of
+        the logits of every entry that wants them, in order."""
         if abortable != self._abort_on:
             self.lib.llama_set_abort_callback(
                 self.ctx, self._abort if abortable else self._no_abort, None)
             self._abort_on = abortable
+        rows = []
         for start in range(0, len(entries), 512):
             b = self.batch
             b.n_tokens = 0
+            wanted = []
             for i, (tok, pos, seq, logits) in enumerate(entries[start:start + 512]):
                 b.token[i], b.pos[i], b.n_seq_id[i] = tok, pos, 1
                 b.seq_id[i][0], b.logits[i] = seq, logits
                 b.n_tokens = i + 1
+                if logits:
+                    wanted.append(i)
             code = self.lib.llama_decode(self.ctx, b)
             if code != 0:
                 raise RuntimeError(f"llama_decode returned {code}")
+            rows += [self._logits(i).copy() for i in wanted]
+        return rows
 
     def _logits(self, index: int) -> np.ndarray:
         ptr = self.lib.llama_get_logits_ith(self.ctx, index)
         return np.ctypeslib.as_array(ptr, shape=(self.n_vocab,))
 
-    def _set_prefix(self, prefix: list[int]) -> None:
+    def set_prefix(self, prefix: list[int]) -> None:
         if prefix == self.cached_prefix:
             return
         self.lib.llama_memory_clear(self.mem, True)
         self.cached_prefix = []
         if prefix:
-            self._decode([(t, i, 0, False) for i, t in enumerate(prefix)])
+            self.decode_rows([(t, i, 0, False) for i, t in enumerate(prefix)])
         self.cached_prefix = list(prefix)
+
+    def fail_all(self, keys: list[str], prompt_tokens: list[int], exc: Exception):
+        """A failed decode: those items get an error each; memory starts afresh."""
+        self.lib.llama_memory_clear(self.mem, True)
+        self.cached_prefix = []
+        for key, count in zip(keys, prompt_tokens):
+            yield Result(key=key, prompt_tokens=count,
+                         error=f"the model failed on this item ({exc})")
 
     # -- the loop ------------------------------------------------------------------------
     def run(self, jobs: Iterable[Job]) -> Iterator[Result]:
@@ -104,79 +133,73 @@ class BatchDecoder:
         free = list(range(self.n_seq, 0, -1))
         active: list[Job] = []
         pending: Job | None = None
-        while True:
-            while free and not self.cancelled():
+        while not self.cancelled():
+            joining: list[Job] = []
+            while free:
                 job = pending or next(waiting, None)
                 pending = None
                 if job is None:
                     break
-                if active and (self.cached_prefix != job.tokens[:job.prefix]
-                               or self._load(active) + _need(job) > self.n_ctx):
-                    pending = job  # waits until the batch drains enough
-                    break
-                try:
-                    yield from self._admit(job, free.pop(), active, free)
-                except RuntimeError as exc:
-                    if self.cancelled():
-                        return
-                    yield from self._fail([job, *active], exc, active, free)
-            if not active or self.cancelled():
+                if active or joining:
+                    shared = (joining or active)[0]
+                    if (shared.tokens[:shared.prefix] != job.tokens[:job.prefix]
+                            or self._load(active + joining) + _need(job) > self.n_ctx):
+                        pending = job  # waits until the batch drains enough
+                        break
+                job.seq = free.pop()
+                joining.append(job)
+            if not active and not joining:
                 return
             try:
-                self._step(active)
+                yield from self._advance(active, joining, free)
             except RuntimeError as exc:
                 if self.cancelled():
                     return
-                yield from self._fail(list(active), exc, active, free)
+                failed = active + joining
+                active.clear()
+                free[:] = list(range(self.n_seq, 0, -1))
+                yield from self.fail_all([j.request.key for j in failed],
+                                         [len(j.tokens) for j in failed], exc)
+
+    def _load(self, active: list[Job]) -> int:
+        return len(self.cached_prefix) + sum(_need(j) for j in active)
+
+    def _advance(self, active: list[Job], joining: list[Job], free: list[int]):
+        """The next token of every active item and the suffix of every joining item; finished
+        items leave and free their slot. With ``pack`` all of it is one decode; without, each
+        joining suffix is decoded on its own first (see ``pack``)."""
+        if joining:
+            self.set_prefix(joining[0].tokens[:joining[0].prefix])
+        groups = [active + joining] if self.pack else [[j] for j in joining] + [active]
+        for group in groups:
+            group = list(group)  # ``active`` changes while its results are read
+            entries = []
+            for job in group:
+                if job.out:
+                    entries.append((job.out[-1], len(job.tokens) + len(job.out) - 1, job.seq, True))
+                    continue
+                job.started = time.perf_counter()
+                req = job.request
+                job.rng = np.random.default_rng(req.seed) if req.temperature > 0 else None
+                self.lib.llama_memory_seq_rm(self.mem, job.seq, -1, -1)
+                if job.prefix:
+                    self.lib.llama_memory_seq_cp(self.mem, 0, job.seq, 0, job.prefix)
+                suffix = job.tokens[job.prefix:]
+                entries += [(t, job.prefix + i, job.seq, i == len(suffix) - 1)
+                            for i, t in enumerate(suffix)]
+            if not entries:
                 continue
-            for job in list(active):
+            rows = self.decode_rows(entries, abortable=any(not j.out for j in group))
+            for job, row in zip(group, rows):
+                job.out.append(self._pick(job, row))
+                if job not in active:
+                    active.append(job)
                 done = self._finished(job)
                 if done is not None:
                     active.remove(job)
                     self.lib.llama_memory_seq_rm(self.mem, job.seq, -1, -1)
                     free.append(job.seq)
                     yield done
-
-    def _load(self, active: list[Job]) -> int:
-        return len(self.cached_prefix) + sum(_need(j) for j in active)
-
-    def _fail(self, jobs: list[Job], exc: Exception, active: list[Job], free: list[int]):
-        """A failed decode: those items get an error each; memory starts afresh."""
-        self.lib.llama_memory_clear(self.mem, True)
-        self.cached_prefix = []
-        for job in jobs:
-            if job in active:
-                active.remove(job)
-            if job.seq and job.seq not in free:
-                free.append(job.seq)
-            yield Result(key=job.request.key, prompt_tokens=len(job.tokens),
-                         error=f"the model failed on this item ({exc})")
-
-    def _admit(self, job: Job, seq: int, active: list[Job], free: list[int]):
-        job.seq, job.started = seq, time.perf_counter()
-        req = job.request
-        job.rng = np.random.default_rng(req.seed) if req.temperature > 0 else None
-        self._set_prefix(job.tokens[:job.prefix])
-        self.lib.llama_memory_seq_rm(self.mem, seq, -1, -1)
-        if job.prefix:
-            self.lib.llama_memory_seq_cp(self.mem, 0, seq, 0, job.prefix)
-        suffix = job.tokens[job.prefix:]
-        self._decode([(t, job.prefix + i, seq, i == len(suffix) - 1)
-                      for i, t in enumerate(suffix)])
-        job.out.append(self._pick(job, self._logits(-1)))
-        done = self._finished(job)
-        if done is None:
-            active.append(job)
-        else:
-            self.lib.llama_memory_seq_rm(self.mem, seq, -1, -1)
-            free.append(seq)
-            yield done
-
-    def _step(self, active: list[Job]) -> None:
-        self._decode([(j.out[-1], len(j.tokens) + len(j.out) - 1, j.seq, True) for j in active],
-                     abortable=False)
-        for i, job in enumerate(active):
-            job.out.append(self._pick(job, self._logits(i)))
 
     def _pick(self, job: Job, logits: np.ndarray) -> int:
         if job.rng is None:
@@ -187,11 +210,14 @@ class BatchDecoder:
         """A Result once the job hit end of generation, a stop text or its token budget."""
         req = job.request
         ended = self.lib.llama_vocab_is_eog(self.vocab, job.out[-1])
-        if not ended and not req.stop and len(job.out) < job.limit:
+        if not ended and not req.stop and req.until is None and len(job.out) < job.limit:
             return None  # the common case, decided without detokenising
         tokens = job.out[:-1] if ended else job.out
         text = self.llm.detokenize(tokens).decode("utf-8", "ignore")
-        cut = min((text.find(s) for s in req.stop if s and s in text), default=-1)
+        cuts = [text.find(s) for s in req.stop if s and s in text]
+        if req.until is not None and (at := req.until.cut(text)) is not None:
+            cuts.append(at)
+        cut = min(cuts, default=-1)
         if not (ended or cut >= 0 or len(job.out) >= job.limit):
             return None
         reason = "stop" if ended or cut >= 0 else "length"

@@ -1,8 +1,10 @@
 """The local engine: a GGUF model run by llama.cpp (llama-cpp-python) on this machine.
 
-One ``Llama`` object, owned by one worker thread; every call into it is handed to that
-thread, so the model is never touched from two threads. The shared instruction goes first
-in the prompt and items run back to back, so llama.cpp reuses the common token prefix.
+One ``Llama`` object, owned by one worker thread; every call into it (tokenising, counting,
+scoring, generating, loading and freeing) is handed to that thread, so two callers on
+different threads never touch the model at once. ``render`` only fills the chat template
+(a Jinja template read from the model file at load time) and never touches the model, so it
+runs on the caller's thread and does not wait behind a running grade.
 """
 from __future__ import annotations
 
@@ -19,6 +21,7 @@ from typing import Callable, Iterable, Iterator, Sequence
 
 from .base import EngineError, Request, Result
 from .batched import BatchDecoder, Job
+from .label_scoring import ScoreJob, plan_labels, run_scoring
 from .model_files import bundled_model_path, check_model_file, file_sha256, physical_cores
 
 log = logging.getLogger("honebench.llama")
@@ -31,8 +34,12 @@ _LEVELS = {3: logging.WARNING, 4: logging.ERROR}  # ggml: 1 debug, 2 info, 3 war
 
 def _install_log_callback() -> None:
     """Route llama.cpp's log to Python logging (instead of the racy fd redirection that
-    ``verbose=False`` does around model loading)."""
+    ``verbose=False`` does around model loading). Installed once per process: replacing it
+    would free a callback another engine's thread may be inside."""
     import llama_cpp
+
+    if getattr(_install_log_callback, "keep", None) is not None:
+        return
 
     @llama_cpp.llama_log_callback
     def _on_log(level, text, _user):
@@ -76,11 +83,14 @@ class LocalEngine:
     kind = "local"
 
     def __init__(self, model_path: str | Path | None = None, *, n_ctx: int = 2048,
-                 n_threads: int | None = None, n_batch: int = 512, n_seq: int = 4):
+                 n_threads: int | None = None, n_batch: int = 512, n_seq: int = 4,
+                 score_group: int = 8, score_all_tokens: bool = False):
         self.model_path = check_model_file(model_path or bundled_model_path())
         self.n_ctx, self.n_batch = n_ctx, n_batch
         self.n_threads = n_threads or physical_cores()
-        self.n_seq = n_seq  # items decoded together
+        self.n_seq = n_seq  # items generated together
+        self.score_group = score_group  # items whose labels are scored together
+        self.score_all_tokens = score_all_tokens  # see label_scoring.py ("full")
         self._batcher: BatchDecoder | None = None
         self._cancel = threading.Event()
         self._owner = _Owner()
@@ -131,19 +141,36 @@ class LocalEngine:
             eos_token=eos, bos_token=bos)
         self._eos_text = eos
         self._llm = llm
+        self._end_of_turn = self._find_end_of_turn()
+
+    def _find_end_of_turn(self) -> int:
+        """The token the chat template writes right after an answer (``<|im_end|>`` for
+        ChatML-style templates); the end-of-generation token when that cannot be found."""
+        mark = "\u2063END\u2063"
+        text = self._formatter(messages=[{"role": "user", "content": "x"},
+                                         {"role": "assistant", "content": mark}]).prompt
+        tail = text[text.find(mark) + len(mark):] if mark in text else ""
+        tokens = self._llm.tokenize(tail.encode("utf-8"), add_bos=False, special=True)
+        if tokens and self._llm._model.token_get_text(tokens[0]).strip():
+            return tokens[0]
+        return self._llm.token_eos()
 
     # -- the protocol --------------------------------------------------------------------
     def render(self, messages: Sequence[dict], prefill: str = "") -> str:
         return self._formatter(messages=list(messages)).prompt + prefill
 
     def count_tokens(self, text: str) -> int:
-        return len(self._owner.call(lambda: self._tokens(text)))
+        return len(self.tokenize(text))
+
+    def tokenize(self, text: str) -> list[int]:
+        return self._owner.call(lambda: self._tokens(text))
 
     def _tokens(self, text: str) -> list[int]:
         return self._llm.tokenize(text.encode("utf-8"), add_bos=True, special=True)
 
     def fingerprint(self) -> str:
-        return f"{self.model_path.name}@sha256:{self._sha[:16]};n_ctx={self.n_ctx}"
+        extra = ";labels=all-tokens" if self.score_all_tokens else ""
+        return f"{self.model_path.name}@sha256:{self._sha[:16]};n_ctx={self.n_ctx}{extra}"
 
     def describe(self) -> str:
         return (f"{self.model_path.name} (local, {self.n_threads} threads, context "
@@ -156,13 +183,23 @@ class LocalEngine:
         """Results as items finish (not necessarily in request order), several items
         decoded together. After ``cancel()`` the generator stops; items in flight are
         dropped."""
+        return self._stream(lambda out: self._decoder().run(self._jobs(requests, out)))
+
+    def score_labels(self, requests: Iterable[Request]) -> Iterator[Result]:
+        """Label scoring (see label_scoring.py) for requests whose ``labels`` are set:
+        Result.text is the chosen label; results in the order groups finish."""
+        return self._stream(lambda out: run_scoring(
+            self._decoder(), self._score_jobs(requests, out), self.score_group))
+
+    def _stream(self, make) -> Iterator[Result]:
+        """Run ``make(out)``'s results on the owner thread; yield them here as they come."""
         self._cancel.clear()
         out: queue.Queue = queue.Queue()
         done = object()
 
         def work():
             try:
-                for result in self._decoder().run(self._jobs(requests, out)):
+                for result in make(out):
                     out.put(result)
             finally:
                 out.put(done)
@@ -179,6 +216,27 @@ class LocalEngine:
     def _jobs(self, requests: Iterable[Request], out: queue.Queue) -> Iterator[Job]:
         """Tokenised work for the decoder; prompts too long for the context are answered
         with an error at once."""
+        for req, prompt, tokens, prefix in self._prompts(requests, out):
+            limit = max(1, min(req.max_tokens, self.n_ctx - len(tokens) - 1))
+            yield Job(request=req, tokens=tokens, prefix=prefix, limit=limit)
+
+    def _score_jobs(self, requests: Iterable[Request], out: queue.Queue) -> Iterator[ScoreJob]:
+        for req, prompt, tokens, prefix in self._prompts(requests, out):
+            if not req.labels:
+                out.put(Result(key=req.key, error="label scoring needs the allowed labels"))
+                continue
+            paths = [self._tokens(prompt + label) + [self._end_of_turn] for label in req.labels]
+            if max(len(p) for p in paths) + 1 >= self.n_ctx:
+                out.put(Result(key=req.key, prompt_tokens=len(tokens),
+                               error="prompt and label are longer than the context holds"))
+                continue
+            plan = plan_labels(tokens, paths, full=self.score_all_tokens)
+            yield ScoreJob(request=req, tokens=tokens, prefix=min(prefix, plan.common - 1),
+                           plan=plan)
+
+    def _prompts(self, requests: Iterable[Request], out: queue.Queue):
+        """(request, prompt text, its tokens, tokens in the shared prefix) for each request
+        that fits the context; the others get an error Result at once."""
         for req in requests:
             if self._cancel.is_set():
                 return
@@ -194,8 +252,7 @@ class LocalEngine:
                 head = self._tokens(prompt[:req.prefix_chars])
                 while prefix < min(len(head), len(tokens) - 1) and head[prefix] == tokens[prefix]:
                     prefix += 1
-            limit = max(1, min(req.max_tokens, self.n_ctx - len(tokens) - 1))
-            yield Job(request=req, tokens=tokens, prefix=prefix, limit=limit)
+            yield req, prompt, tokens, prefix
 
     def _decoder(self) -> BatchDecoder:
         if self._batcher is None:
@@ -206,40 +263,25 @@ class LocalEngine:
 
     def score_choices(self, messages: Sequence[dict], choices: Sequence[str],
                       prefill: str = "") -> list[float]:
-        """Sum of log-probabilities of each choice's tokens as the start of the answer.
-        Prompt and choice are tokenised together, so merges at the boundary are right."""
-        self._cancel.clear()
-        return self._owner.call(lambda: self._score(self.render(messages, prefill), choices))
+        """Log-probability of each choice as the start of the answer (label scoring of one
+        prompt; see label_scoring.py for which tokens count)."""
+        req = Request(key="choices", messages=tuple(messages), prefill=prefill,
+                      labels=tuple(choices))
+        result = next(iter(self.score_labels([req])))
+        if result.error:
+            raise EngineError(result.error)
+        return list(result.label_logprobs)
 
-    def _score(self, prompt: str, choices: Sequence[str]) -> list[float]:
-        import numpy as np
-
-        llm = self._llm
-        base = self._tokens(prompt)
-        scores = []
-        for choice in choices:
-            full = self._tokens(prompt + choice)
-            keep = 0
-            while keep < min(len(base), len(full)) and base[keep] == full[keep]:
-                keep += 1
-            keep = max(1, min(keep, len(full) - 1))
-            llm.reset()
-            llm.eval(full[:keep])
-            total = 0.0
-            for token in full[keep:]:
-                logits = np.ctypeslib.as_array(llm._ctx.get_logits(), shape=(llm.n_vocab(),))
-                top = logits.max()
-                total += float(logits[token] - top - np.log(np.exp(logits - top).sum()))
-                llm.eval([token])
-            scores.append(total)
-        return scores
+    def _release(self) -> None:
+        if self._batcher is not None:
+            self._batcher.close()
+            self._batcher = None
+        self._llm = None  # freed here, on the thread that used it
 
     def close(self) -> None:
-        if self._batcher is not None and self._owner.is_alive():
-            self._owner.call(self._batcher.close)
-            self._batcher = None
         if self._owner.is_alive():
             self._cancel.set()
+            self._owner.call(self._release)
             self._owner.jobs.put((None, None))
             self._owner.join(timeout=10)
         self._llm = None

@@ -175,6 +175,11 @@ class EndpointEngine:
                       prefill: str = "") -> list[float]:
         raise EngineError("label scoring needs the local engine")
 
+    def score_labels(self, requests: Iterable[Request]) -> Iterator[Result]:
+        """Label scoring from the protocol's logprobs (remote_scoring.py); where the server
+        gives none, the answer is generated and the Result carries a note saying so."""
+        return self.complete(requests)  # requests with labels ask for logprobs too
+
     def cancel(self) -> None:
         """Requests not yet sent are not sent; a running ``complete`` stops soon after."""
         self._stop.set()
@@ -289,6 +294,9 @@ class EndpointEngine:
             body["model"] = self.model
         if req.stop:
             body["stop"] = list(req.stop)
+        if req.labels:
+            from .remote_scoring import scoring_fields
+            body.update(scoring_fields())
         return body
 
     def _send_safely(self, req: Request, stop: threading.Event) -> Result | None:
@@ -332,7 +340,11 @@ class EndpointEngine:
                           error=self._redact(problem))
         if stop.is_set():
             return None
-        result = read_reply(req.key, raw, time.perf_counter() - start)
+        if req.labels:
+            from .remote_scoring import read_scored
+            result = read_scored(req, raw, time.perf_counter() - start)
+        else:
+            result = read_reply(req.key, raw, time.perf_counter() - start)
         if result.error:
             return Result(key=req.key, seconds=result.seconds, error=self._redact(result.error))
         return result
