@@ -26,7 +26,7 @@ from ..core.suggest_fixtures import small_project
 from ..fakes import FakeEngine
 from .pictures import non_blank
 
-MODEL_WAIT = 180_000
+MODEL_WAIT = 600_000  # ms; the machine may be shared and busy
 SNAP = Path("/tmp/snap")
 GOOD = ("Route this passenger message to one department: refund, booking_change, "
         "lost_property, accessibility or timetable. Reply with the department only.")
@@ -185,6 +185,7 @@ def test_best_appears_only_after_confirming_on_held_out_items(qtbot, runner, set
     assert window.shelf_model.data(window.shelf_model.index(
         window.shelf_model.row_of(row.entry.id), 2)).endswith("n=36)")
     assert "v2 leads the kept versions" in extra.bar.best.text()
+    window.window.resizeDocks([window.window.docks["shelf"]], [470], Qt.Orientation.Horizontal)
     snapshots(qtbot, {"shelf_best": window.shelf_panel, "window_best": window.window})
     window.window.close()
 
@@ -211,6 +212,7 @@ def test_an_overfit_version_gets_a_warning_and_many_variants_a_note(qtbot, runne
     assert "clearly below" in tip and "25% (3/12" in tip
     assert extra.bar.note.isVisible()
     assert "best of 6 wordings tried" in extra.bar.note.text()
+    window.window.resizeDocks([window.window.docks["shelf"]], [470], Qt.Orientation.Horizontal)
     snapshots(qtbot, {"shelf_best_warning": window.shelf_panel})
     window.window.close()
 
@@ -247,6 +249,8 @@ def test_chart_points_and_shapes_follow_the_shelf(qtbot, runner, settings, tmp_p
     for words in ("tuning items", "held-out items", "●&nbsp;kept", "✕&nbsp;set aside",
                   "□&nbsp;not decided"):
         assert words in legend
+    window.window.resizeDocks([window.window.docks["shelf"]], [600], Qt.Orientation.Horizontal)
+    window.window.resizeDocks([window.window.docks["chart"]], [420], Qt.Orientation.Vertical)
     snapshots(qtbot, {"chart": chart, "chart_window": window.window})
     window.window.close()
 

@@ -18,7 +18,7 @@ from honebench.gui.project.state import preview_set
 from .pictures import non_blank
 
 pytestmark = pytest.mark.model
-MODEL_WAIT = 180_000  # ms; generous, the machine may be busy
+MODEL_WAIT = 600_000  # ms; generous, the machine may be shared and busy
 
 
 def new_window(qtbot, runner, settings) -> App:

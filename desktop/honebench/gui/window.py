@@ -13,8 +13,8 @@ from typing import Callable
 
 from PySide6.QtCore import QByteArray, QSettings, Qt, Signal
 from PySide6.QtGui import QAction
-from PySide6.QtWidgets import (QDockWidget, QLabel, QMainWindow, QMenu, QMessageBox, QTabBar,
-                               QToolBar, QWidget)
+from PySide6.QtWidgets import (QDockWidget, QFrame, QLabel, QMainWindow, QMenu, QMessageBox,
+                               QScrollArea, QTabBar, QToolBar, QWidget)
 
 from .jobs import JobRunner
 
@@ -62,10 +62,16 @@ class MainWindow(QMainWindow):
                  tab_with: str | None = None, shortcut: str | None = None,
                  area=Qt.DockWidgetArea.RightDockWidgetArea) -> QDockWidget:
         """Dock ``widget``; tabbed with the dock ``tab_with`` if given. Its show/hide toggle
-        goes into the View menu (as ``view_text``)."""
+        goes into the View menu (as ``view_text``). The widget sits in a scroll area, so
+        what it shows can never make the window taller than the screen."""
         dock = QDockWidget(title, self)
         dock.setObjectName(f"{key}_dock")
-        dock.setWidget(widget)
+        room = QScrollArea()
+        room.setWidgetResizable(True)
+        room.setFrameShape(QFrame.Shape.NoFrame)
+        room.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        room.setWidget(widget)
+        dock.setWidget(room)
         dock.setFeatures(QDockWidget.DockWidgetFeature.DockWidgetMovable
                          | QDockWidget.DockWidgetFeature.DockWidgetClosable)
         self.addDockWidget(area, dock)

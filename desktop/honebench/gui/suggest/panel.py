@@ -20,6 +20,7 @@ from ..project import operations
 from ..project.operations import Candidates
 from ..project.session import ProjectSession
 from ..shelf.model import ShelfModel
+from .outcome import OutcomeArea
 from .cards import (EDITOR, STRATEGY_TIPS, SuggestionCard, early_rule, inputs_text,
                     outcome_text, small)
 
@@ -85,43 +86,11 @@ class SuggestPanel(QWidget):
         self.scores.setTextFormat(Qt.TextFormat.PlainText)
         self.scores.setAccessibleName("Running score of each suggestion being scored")
 
-        self.diagnosis_box = QGroupBox("What the model thinks the misses show")
-        self.diagnosis = QLabel()
-        self.diagnosis.setWordWrap(True)
-        self.diagnosis.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
-        self.diagnosis.setAccessibleName("The model's diagnosis of the misses")
-        QVBoxLayout(self.diagnosis_box).addWidget(self.diagnosis)
-        self.message = QLabel()
-        self.message.setWordWrap(True)
-        self.message.setAccessibleName("Suggestion outcome")
-        self.message.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
-        self.dropped_toggle = QToolButton()
-        self.dropped_toggle.setCheckable(True)
-        self.dropped_toggle.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextBesideIcon)
-        self.dropped_toggle.setArrowType(Qt.ArrowType.RightArrow)
-        self.dropped_toggle.setAutoRaise(True)
-        self.dropped_toggle.setAccessibleName("Show the dropped replies")
+        self.scroll = OutcomeArea()
+        self.diagnosis_box, self.diagnosis = self.scroll.diagnosis_box, self.scroll.diagnosis
+        self.message, self.dropped = self.scroll.message, self.scroll.dropped
+        self.dropped_toggle, self.card_layout = self.scroll.dropped_toggle, self.scroll.card_layout
         self.dropped_toggle.toggled.connect(self._toggle_dropped)
-        self.dropped = small(QLabel())
-        self.dropped.setAccessibleName("Why replies were dropped")
-        self.dropped.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
-
-        self.card_box = QWidget()
-        self.card_layout = QVBoxLayout(self.card_box)
-        self.card_layout.setContentsMargins(0, 0, 0, 0)
-        self.scroll = QScrollArea()
-        self.scroll.setWidgetResizable(True)
-        self.scroll.setFrameShape(QFrame.Shape.NoFrame)
-        self.scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        self.scroll.setAccessibleName("Scored suggestions")
-        inner = QWidget()
-        inner_layout = QVBoxLayout(inner)
-        inner_layout.setContentsMargins(0, 0, 4, 0)
-        for widget in (self.diagnosis_box, self.message, self.dropped_toggle, self.dropped,
-                       self.card_box):
-            inner_layout.addWidget(widget)
-        inner_layout.addStretch(1)
-        self.scroll.setWidget(inner)
 
         form = QFormLayout()
         form.setContentsMargins(0, 0, 0, 0)
