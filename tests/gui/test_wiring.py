@@ -115,8 +115,6 @@ def test_grade_keep_compare_confirm_export(qtbot, runner, settings, tmp_path, sa
 
 def test_a_second_model_job_waits_in_the_lane(qtbot, runner, settings, tmp_path, sample_dir):
     app, engine, _path = composed(qtbot, runner, settings, tmp_path, sample_dir)
-    gate = []
-    engine.on_call = lambda n: qtbot.wait(0) if gate else None
     app.editor.set_wording(Wording(GOOD, "before"))
     app.grade()
     app.suggest.strategy.setCurrentIndex(app.suggest.strategy.findData("phrase-edits"))

@@ -7,7 +7,6 @@ tagged "set aside" in words.
 from __future__ import annotations
 
 from PySide6.QtCore import QEvent, Qt, Signal
-from PySide6.QtGui import QPalette
 from PySide6.QtWidgets import (QAbstractItemView, QHBoxLayout, QHeaderView, QLabel, QLineEdit,
                                QPushButton, QSplitter, QStackedWidget, QTextBrowser, QTreeView,
                                QVBoxLayout, QWidget)

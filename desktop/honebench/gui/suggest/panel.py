@@ -6,9 +6,8 @@ import html
 from typing import Callable
 
 from PySide6.QtCore import Qt, Signal
-from PySide6.QtWidgets import (QCheckBox, QComboBox, QFormLayout, QFrame, QGroupBox, QHBoxLayout,
-                               QLabel, QProgressBar, QPushButton, QScrollArea, QSpinBox,
-                               QToolButton, QVBoxLayout, QWidget)
+from PySide6.QtWidgets import (QCheckBox, QComboBox, QFormLayout, QHBoxLayout, QLabel,
+                               QProgressBar, QPushButton, QSpinBox, QVBoxLayout, QWidget)
 
 from ...core.project import ShelfRow
 from ...core.events import Stage, progress_text
