@@ -100,6 +100,8 @@ class HonePanel(QWidget):
         self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
         self.table.horizontalHeader().setStretchLastSection(True)
         self.chart = HoneChart()
+        self.chart.setMinimumHeight(140)
+        self.table.setMinimumHeight(4 * self.fontMetrics().height() + 12)
 
         self.settings_box = QWidget()
         grid = QGridLayout(self.settings_box)

@@ -6,7 +6,7 @@ tagged "set aside" in words.
 """
 from __future__ import annotations
 
-from PySide6.QtCore import QEvent, Qt, Signal
+from PySide6.QtCore import QEvent, Qt, QTimer, Signal
 from PySide6.QtWidgets import (QAbstractItemView, QHBoxLayout, QHeaderView, QLabel, QLineEdit,
                                QPushButton, QSplitter, QStackedWidget, QTextBrowser, QTreeView,
                                QVBoxLayout, QWidget)
@@ -37,6 +37,7 @@ class ShelfPanel(QWidget):
         self.model.modelReset.connect(self._rows_reset)
 
         self.view = QTreeView()
+        self.view.setMinimumHeight(4 * self.fontMetrics().height() + 12)
         self.view.setModel(self.model)
         self.view.setItemDelegate(_RoomyDelegate(self.view))
         self.view.setAccessibleName("Shelf of wordings, newest first")
@@ -85,6 +86,8 @@ class ShelfPanel(QWidget):
         self.legend = QLabel()
         self.legend.setWordWrap(True)
         self.diff = QTextBrowser()
+        line = self.fontMetrics().height()
+        self.diff.setMinimumHeight(2 * line + 10)  # small minimums: the dock never overflows
         self.diff.setOpenLinks(False)
         self.diff.setAccessibleName("Word differences between the editor and the selected version")
         self.note = QLineEdit()
@@ -138,8 +141,8 @@ class ShelfPanel(QWidget):
         rows = self.model.rows
         keep = self._selected
         self.stack.setCurrentWidget(self.view if rows else self.empty)
-        for col in range(len(COLUMNS)):
-            self.view.resizeColumnToContents(col)
+        self._fit_columns()
+        QTimer.singleShot(0, self._fit_columns)  # again once the view is laid out
         self.details.setVisible(bool(rows))
         row = self.model.row_of(keep) if keep is not None else None
         if row is None and rows:
@@ -147,6 +150,10 @@ class ShelfPanel(QWidget):
         if row is not None:
             self.view.setCurrentIndex(self.model.index(row, 0))
         self._show_selected()
+
+    def _fit_columns(self) -> None:
+        for col in range(len(COLUMNS)):
+            self.view.resizeColumnToContents(col)
 
     def set_editor_text(self, text: str) -> None:
         self.editor_text = text
