@@ -157,3 +157,24 @@ def test_no_gui_module_reaches_through_the_window():
         if "menuBar().actions()" in text:
             offences.append(f"{path.name}: finds a menu by its text")
     assert offences == []
+
+
+def test_switching_the_engine_mid_run_cancels_the_run_first(qtbot, runner, settings, tmp_path,
+                                                            sample_dir):
+    import time
+
+    app, engine, _path = composed(qtbot, runner, settings, tmp_path, sample_dir)
+    engine.on_call = lambda n: time.sleep(0.05)  # slow enough to switch mid-run
+    first = app.engine.handle
+    switched = []
+    app.engine.switching.connect(switched.append)
+    app.editor.set_wording(Wording(GOOD, "before"))
+    with qtbot.waitSignal(app.grading.finished, timeout=WAIT) as graded:
+        app.grade()
+        qtbot.waitUntil(lambda: app.sheet.model.rowCount() >= 1, timeout=WAIT)
+        app.engine.load(str(tmp_path / "other.gguf"))  # the fake factory takes any source
+    assert graded.args[0].outcome.status == "cancelled"  # stopped, finished marks kept
+    qtbot.waitUntil(lambda: app.engine.handle is not first, timeout=WAIT)
+    assert switched == ["grading"]  # the user is told what was cancelled
+    assert app.window.problems == []
+    app.window.close()
