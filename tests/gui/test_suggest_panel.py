@@ -135,10 +135,21 @@ def test_menu_actions_and_rule_before_the_first_run(qtbot, runner, settings, tmp
 
 
 def test_suggest_keep_set_aside_and_reopen(qtbot, runner, settings, tmp_path, sample_dir):
+    from honebench.core.events import Stage
+    from honebench.gui.project.operations import Candidates
+
     window, suggest, _hone, path = open_window(qtbot, runner, settings, tmp_path, sample_dir,
                                                rephrase_engine)
     base_text = window.editor.wording().text
+    events = []
+    runner.job_started.connect(lambda job: job.progress.connect(events.append))
     outcome = run_suggest(qtbot, suggest, "rephrase", 3)
+    # while scoring, each suggestion's running score came in; the last read is final
+    last = [e for e in events if isinstance(e, Candidates)][-1]
+    assert sorted((c.text, c.passed, c.done) for c in last.items) == sorted(
+        (c.text, c.score.passed, 11) for c in outcome.cards)
+    stages = [e for e in events if isinstance(e, Stage) and e.progress is not None]
+    assert stages[-1].progress.done == stages[-1].progress.total
     assert [c.text for c in outcome.cards] == list(reversed(REPHRASES))  # best first
     assert len(suggest.cards) == 3
     first, second, third = suggest.cards

@@ -70,33 +70,29 @@ class _Watch:
 
     def __init__(self, project, on_event: Listener):
         self.project, self.on_event = project, on_event
-        self.stage, self.began, self.after, self.last, self.passed = None, 0.0, 0, 0.0, 0
-
-    def _latest_run(self) -> int:
-        latest = self.project.store.latest_run()
-        return latest.id if latest else 0
+        self.stage, self.began, self.last, self.passed = None, 0.0, 0.0, 0
 
     def __call__(self, stage: str, done: int, total: int) -> None:
         now = time.monotonic()
         if stage != self.stage:
             self.stage, self.began, self.last, self.passed = stage, now, 0.0, 0
-            self.after = self._latest_run()
         if done and (now - self.last >= 0.5 or done >= total):
             self.last = now
-            self._read(stage, done >= total)
+            self._read(stage)
         elapsed = now - self.began
         eta = elapsed / done * (total - done) if done and total >= done else None
         self.on_event(Stage(stage, Progress(done, total, passed=self.passed, elapsed=elapsed,
                                             eta=eta)))
 
-    def _read(self, stage: str, finished: bool) -> None:
+    def _read(self, stage: str) -> None:
+        """The runs of this stage are the ones still running: the grader starts them all
+        before the first mark and closes them after the last."""
         store = self.project.store
-        runs = [r for r in store.runs() if r.id > self.after and r.split == "tuning"
-                and (r.status == "running" or finished)]
         items = []
-        for run in runs:
-            passed, n = store.run_counts(run.id)
-            items.append(Candidate(run.wording_text, passed, n, run.n_items))
+        for run in store.runs():
+            if run.status == "running" and run.split == "tuning":
+                passed, n = store.run_counts(run.id)
+                items.append(Candidate(run.wording_text, passed, n, run.n_items))
         self.passed = sum(c.passed for c in items)
         if stage.startswith("scoring") and items:
             self.on_event(Candidates(stage, tuple(items)))
