@@ -71,11 +71,13 @@ class _Watch:
     def __init__(self, project, on_event: Listener):
         self.project, self.on_event = project, on_event
         self.stage, self.began, self.last, self.passed = None, 0.0, 0.0, 0
+        self.previous = time.monotonic()  # when the last report came: the next stage's start
 
     def __call__(self, stage: str, done: int, total: int) -> None:
         now = time.monotonic()
-        if stage != self.stage:
-            self.stage, self.began, self.last, self.passed = stage, now, 0.0, 0
+        if stage != self.stage:  # its work began when the previous stage last reported
+            self.stage, self.began, self.last, self.passed = stage, self.previous, 0.0, 0
+        self.previous = now
         if done and (now - self.last >= 0.5 or done >= total):
             self.last = now
             self._read(stage)
