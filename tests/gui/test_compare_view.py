@@ -16,17 +16,17 @@ from PySide6.QtWidgets import QFileDialog
 from honebench.core.project import Project
 from honebench.core.report import SECTIONS
 from honebench.core.wording import Wording
-from honebench.gui.compare_tasks import EDITOR
-from honebench.gui.confirm_attach import BEST_TAG, CHECK_TAG, attach_compare_and_confirm
-from honebench.gui.main_window import MainWindow
-from honebench.gui.shelf_model import VERSION
+from honebench.gui.app import compose
+from honebench.gui.compare.control import BEST_TAG, CHECK_TAG
+from honebench.gui.project.operations import EDITOR
+from honebench.gui.shelf.model import VERSION
 
 from ..core.shelf_builder import add_run, new_project, pattern
 from ..core.suggest_fixtures import small_project
 from ..fakes import FakeEngine
 from .pictures import non_blank
 
-MODEL_WAIT = 180_000
+MODEL_WAIT = 600_000  # ms; the machine may be shared and busy
 SNAP = Path("/tmp/snap")
 GOOD = ("Route this passenger message to one department: refund, booking_change, "
         "lost_property, accessibility or timetable. Reply with the department only.")
@@ -34,25 +34,33 @@ POOR = "Reply with the single word refund, whatever the message says."
 
 
 def open_window(qtbot, runner, settings, path, engine=None):
+    """The composed window (as run_app composes it) on ``path``; returns (app, compare)."""
     kwargs = {} if engine is None else {"engine_factory": lambda _src: engine}
-    window = MainWindow(runner, settings, quiet=True, **kwargs)
-    qtbot.addWidget(window)
-    extra = attach_compare_and_confirm(window)
-    window.show()
-    qtbot.waitUntil(lambda: window.engine_bar.handle is not None, timeout=MODEL_WAIT)
-    with qtbot.waitSignal(window.project_loaded, timeout=MODEL_WAIT):
-        window.open_project(path)
-    return window, extra
+    app = compose(runner, settings, quiet=True, **kwargs)
+    qtbot.addWidget(app.window)
+    app.window.show()
+    qtbot.waitUntil(lambda: app.engine.handle is not None, timeout=MODEL_WAIT)
+    with qtbot.waitSignal(app.session.opened, timeout=MODEL_WAIT):
+        app.session.open_project(path)
+    return app, app.compare
 
 
-def version_cells(window) -> dict[str, str]:
+def version_cells(app) -> dict[str, str]:
     """Shelf label -> the text of its version cell (with the tags in words)."""
-    model = window.shelf.model
+    model = app.shelf_model
     return {r.entry.label: model.data(model.index(n, VERSION)) for n, r in enumerate(model.rows)}
 
 
-def entry_id(window, label: str) -> int:
-    return next(r.entry.id for r in window.state.shelf if r.entry.label == label)
+def entry_id(app, label: str) -> int:
+    return next(r.entry.id for r in app.shelf_model.rows if r.entry.label == label)
+
+
+def keep(qtbot, app, label: str) -> None:
+    """Keep the editor's wording and wait until the shelf shows it as ``label``."""
+    with qtbot.waitSignal(app.shelf.kept, timeout=30_000):
+        app.shelf.keep()
+    qtbot.waitUntil(lambda: label in {r.entry.label for r in app.shelf_model.rows},
+                    timeout=30_000)
 
 
 def answer_key(project: Project):
@@ -108,12 +116,11 @@ def test_compare_view_lists_match_the_marks_of_two_real_runs(qtbot, runner, sett
     path = project.path
     project.close()
     window, extra = open_window(qtbot, runner, settings, path)
-    for text in (GOOD, POOR):
+    for text, label in ((GOOD, "v1"), (POOR, "v2")):
         window.editor.set_wording(Wording(text, "system"))
-        with qtbot.waitSignal(window.grade_finished, timeout=MODEL_WAIT):
-            window.grade("tuning")
-        with qtbot.waitSignal(window.shelf_changed, timeout=30_000):
-            window.keep_current()
+        with qtbot.waitSignal(window.grading.finished, timeout=MODEL_WAIT):
+            window.grade()
+        keep(qtbot, window, label)
     v1, v2 = entry_id(window, "v1"), entry_id(window, "v2")
     with qtbot.waitSignal(extra.compared, timeout=MODEL_WAIT) as blocker:
         extra.compare(v1, v2, "tuning")
@@ -145,7 +152,7 @@ def test_compare_view_lists_match_the_marks_of_two_real_runs(qtbot, runner, sett
                                                      "(The model gave no output.)")
     view.resize(900, 620)
     snapshots(qtbot, {"compare_view": view, "compare_pair": pair_view})
-    window.close()
+    window.window.close()
 
 
 # -- (2) confirm: best only after held-out grading; the overfit warning --------------------
@@ -165,21 +172,22 @@ def test_best_appears_only_after_confirming_on_held_out_items(qtbot, runner, set
     assert "grade it on held-out items to confirm" in extra.bar.best.text()
     assert not extra.bar.note.isVisible()  # two variants tried: no optimism note yet
 
-    window.shelf.select(entry_id(window, "v2"))
+    window.shelf_panel.select(entry_id(window, "v2"))
     assert extra.bar.confirm_button.isEnabled()
     with qtbot.waitSignal(extra.confirmed, timeout=30_000):
         qtbot.mouseClick(extra.bar.confirm_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: BEST_TAG in version_cells(window)["v2"], timeout=30_000)
     cells = version_cells(window)
     assert cells["v2"] == f"v2 · {BEST_TAG}"
     assert BEST_TAG not in cells["v1"]
-    row = next(r for r in window.state.shelf if r.entry.label == "v2")
+    row = next(r for r in window.shelf_model.rows if r.entry.label == "v2")
     assert row.held_out is not None and row.held_out.total == 36  # 30% of 120 items
-    assert window.shelf.model.data(window.shelf.model.index(
-        window.shelf.model.row_of(row.entry.id), 2)).endswith("n=36)")
+    assert window.shelf_model.data(window.shelf_model.index(
+        window.shelf_model.row_of(row.entry.id), 2)).endswith("n=36)")
     assert "v2 leads the kept versions" in extra.bar.best.text()
-    window.resizeDocks([window.shelf_dock], [470], Qt.Orientation.Horizontal)
-    snapshots(qtbot, {"shelf_best": window.shelf, "window_best": window})
-    window.close()
+    window.window.resizeDocks([window.window.docks["shelf"]], [470], Qt.Orientation.Horizontal)
+    snapshots(qtbot, {"shelf_best": window.shelf_panel, "window_best": window.window})
+    window.window.close()
 
 
 def test_an_overfit_version_gets_a_warning_and_many_variants_a_note(qtbot, runner,
@@ -198,15 +206,15 @@ def test_an_overfit_version_gets_a_warning_and_many_variants_a_note(qtbot, runne
     window, extra = open_window(qtbot, runner, settings, path, FakeEngine())
     cell = version_cells(window)["v1"]
     assert CHECK_TAG in cell and BEST_TAG in cell  # leads, confirmed, but warned
-    model = window.shelf.model
+    model = window.shelf_model
     tip = model.data(model.index(model.row_of(entry_id(window, "v1")), VERSION),
                      Qt.ItemDataRole.ToolTipRole)
     assert "clearly below" in tip and "25% (3/12" in tip
     assert extra.bar.note.isVisible()
     assert "best of 6 wordings tried" in extra.bar.note.text()
-    window.resizeDocks([window.shelf_dock], [470], Qt.Orientation.Horizontal)
-    snapshots(qtbot, {"shelf_best_warning": window.shelf})
-    window.close()
+    window.window.resizeDocks([window.window.docks["shelf"]], [470], Qt.Orientation.Horizontal)
+    snapshots(qtbot, {"shelf_best_warning": window.shelf_panel})
+    window.window.close()
 
 
 # -- (3) the progress chart -----------------------------------------------------------------
@@ -224,7 +232,7 @@ def test_chart_points_and_shapes_follow_the_shelf(qtbot, runner, settings, tmp_p
     path = project.path
     project.close()
     window, extra = open_window(qtbot, runner, settings, path, FakeEngine())
-    extra.chart_dock.raise_()  # it shares a tab with the label table
+    window.window.show_dock("chart")  # it shares a tab with the other side panels
     qtbot.waitUntil(extra.chart.isVisible, timeout=5000)
     chart = extra.chart
     assert chart.point_count("tuning") == 4  # versions with a tuning score
@@ -241,10 +249,10 @@ def test_chart_points_and_shapes_follow_the_shelf(qtbot, runner, settings, tmp_p
     for words in ("tuning items", "held-out items", "●&nbsp;kept", "✕&nbsp;set aside",
                   "□&nbsp;not decided"):
         assert words in legend
-    window.resizeDocks([window.shelf_dock], [600], Qt.Orientation.Horizontal)
-    window.resizeDocks([extra.chart_dock], [420], Qt.Orientation.Vertical)
-    snapshots(qtbot, {"chart": chart, "chart_window": window})
-    window.close()
+    window.window.resizeDocks([window.window.docks["shelf"]], [600], Qt.Orientation.Horizontal)
+    window.window.resizeDocks([window.window.docks["chart"]], [420], Qt.Orientation.Vertical)
+    snapshots(qtbot, {"chart": chart, "chart_window": window.window})
+    window.window.close()
 
 
 # -- (4) the report export and compare against the editor -----------------------------------
@@ -267,17 +275,17 @@ def test_export_report_writes_every_section(qtbot, runner, settings, tmp_path, m
     window, extra = open_window(qtbot, runner, settings, path, FakeEngine())
     out = tmp_path / "report.html"
     monkeypatch.setattr(QFileDialog, "getSaveFileName", lambda *a, **k: (str(out), ""))
-    with qtbot.waitSignal(extra.exported, timeout=30_000):
-        extra.report_action.trigger()
+    with qtbot.waitSignal(window.exports.exported, timeout=30_000):
+        window.report_action.trigger()
     parser = _Ids()
     parser.feed(out.read_text(encoding="utf-8"))  # Python's own HTML parser
     assert parser.ids == list(SECTIONS)
-    assert str(out) in window.statusBar().currentMessage()
+    assert str(out) in window.window.statusBar().currentMessage()
     text_out = tmp_path / "wording.txt"
-    with qtbot.waitSignal(extra.exported, timeout=30_000):
-        extra.export_wording(str(text_out))
+    with qtbot.waitSignal(window.exports.exported, timeout=30_000):
+        window.exports.export_wording(str(text_out))
     assert text_out.read_text(encoding="utf-8") == "Route the message.\n"
-    window.close()
+    window.window.close()
 
 
 def test_the_editor_is_graded_first_when_compared_without_a_run(qtbot, runner, settings,
@@ -302,4 +310,4 @@ def test_the_editor_is_graded_first_when_compared_without_a_run(qtbot, runner, s
     assert sorted(p.item.id for p in view.pairs("fixed")) == refunds
     assert view.pairs("broken") == []
     assert view.name_b.text() == "B · the editor's wording"
-    window.close()
+    window.window.close()

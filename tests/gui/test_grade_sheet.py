@@ -9,11 +9,12 @@ from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QGuiApplication, QPalette
 from PySide6.QtWidgets import QTableView
 
-from honebench.core.grading import Progress
+from honebench.core.events import Progress
 from honebench.core.records import Mark
-from honebench.gui.grade_sheet import (COLUMNS, EXTRACTED, ID, MARK_ROLE, RESULT, SECONDS, TOKENS,
+from honebench.gui.grading.marks_model import (COLUMNS, EXTRACTED, ID, MARK_ROLE, RESULT, SECONDS, TOKENS,
                                        WHY, MarksFilter, MarksModel, OutcomeIcons)
-from honebench.gui.grade_sheet_panel import GradeSheetPanel, progress_text
+from honebench.core.events import progress_text
+from honebench.gui.grading.sheet import GradeSheetPanel
 
 
 class CountingList(list):
@@ -101,7 +102,18 @@ def test_a_100k_run_sorts_and_filters_in_a_view_without_row_widgets(qtbot, big):
     assert proxy.mark_at(99_999).item_id == "item-099999"
 
 
-def test_streamed_marks_arrive_in_batches(qtbot):
+def test_streamed_marks_appear_one_by_one(qtbot):
+    """Marks finishing together (several items per decode step) are shown one per tick."""
+    model = MarksModel()
+    inserts = []
+    model.rowsInserted.connect(lambda _p, first, last: inserts.append((first, last)))
+    for mark in make_marks(4):
+        model.append(mark)
+    qtbot.waitUntil(lambda: model.rowCount() == 4, timeout=2000)
+    assert inserts == [(0, 0), (1, 1), (2, 2), (3, 3)]
+
+
+def test_a_backlog_of_marks_is_inserted_as_one_batch(qtbot):
     model = MarksModel()
     inserts = []
     model.rowsInserted.connect(lambda _p, first, last: inserts.append((first, last)))
@@ -145,7 +157,14 @@ def test_pass_and_miss_differ_in_text_and_shape_not_only_colour(qtbot):
     # the shapes differ pixel by pixel even though all are drawn in one colour
     assert images[0] != images[1] and images[1] != images[2] and images[0] != images[2]
     assert model.data(model.index(1, WHY), Qt.ItemDataRole.ToolTipRole) == missed.why
-    assert model.data(model.index(2, EXTRACTED)) == "—"
+    assert model.data(model.index(2, EXTRACTED)) == "(none)"
+    # a label check: a reply in which no label was found shows "(none)", not the reply
+    rambling = Mark(item_id="r1", output="I am not sure, sorry.", extracted="I am not sure, sorry.",
+                    passed=False, why="no label matched")
+    labelled = MarksModel([missed, rambling], {})
+    labelled.set_labels({"refund", "timetable"})
+    assert labelled.data(labelled.index(0, EXTRACTED)) == "timetable"
+    assert labelled.data(labelled.index(1, EXTRACTED)) == "(none)"
 
 
 def test_icons_follow_a_dark_palette(qtbot):
@@ -168,17 +187,16 @@ def test_the_panel_shows_progress_and_an_empty_state(qtbot):
     panel = GradeSheetPanel()
     qtbot.addWidget(panel)
     assert panel.stack.currentWidget() is panel.empty
+    assert panel.empty.text().startswith("No marks yet")
     panel.start_run(3, {}, "Grading tuning items…")
     assert panel.progress_row.isVisibleTo(panel)
+    assert not panel.empty.text().startswith("No marks yet")  # no stale advice while grading
     marks = make_marks(3)
     for n, mark in enumerate(marks, 1):
-        panel.add_mark(mark, Progress(n, 3, 0, 0, elapsed=n * 0.5, eta=(3 - n) * 0.5))
-    # worked examples: 10 answered in 4 s leaves 30 items for about 12 s
-    assert progress_text(Progress(10, 40, 5, 0, 4.0, 99.0)) == \
-        "10/40 graded · 2.5 items/s · about 12 s left"
-    # cached answers cost no time: 4 answered in 2 s, 30 items left -> about 15 s
-    assert "about 15 s left" in progress_text(Progress(10, 40, 5, 6, 2.0, None))
-    assert "left" not in progress_text(Progress(40, 40, 20, 0, 9.0, 0.0))
+        progress = Progress(n, 3, 0, 0, elapsed=n * 0.5, eta=(3 - n) * 0.5)
+        panel.add_mark(mark, progress)
+        # the window says exactly what the CLI says (core's one progress text)
+        assert panel.progress.format() == progress_text(progress)
     panel.finish_run("Run 1")
     assert panel.model.rowCount() == 3
     assert not panel.progress_row.isVisibleTo(panel)

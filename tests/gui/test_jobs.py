@@ -150,3 +150,68 @@ def test_error_message_keeps_user_errors_plain():
     assert error_message(ValueError("max tokens must be at least 1")) == \
         "max tokens must be at least 1"
     assert "ZeroDivisionError" in error_message(ZeroDivisionError("division by zero"))
+
+
+# -- operations and the model lane ----------------------------------------------------------
+def test_an_operation_emits_what_changed_then_hands_over_its_value(qtbot, runner):
+    from honebench.core.changes import Changes, Done
+
+    seen = []
+    runner.project_changed.connect(lambda changes: seen.append(("changed", changes)))
+    job = runner.submit(lambda ctx: Done("v3", Changes(shelf=True)),
+                        done=lambda value: seen.append(("done", value)))
+    qtbot.waitSignal(job.finished, timeout=5000).wait()
+    assert seen == [("changed", Changes(shelf=True)), ("done", "v3")]
+    # a job may also report a change committed mid-run (not given to its progress callback)
+    progress = []
+    job = runner.submit(lambda ctx: ctx.report(Changes(runs=True)) or 1, progress=progress.append)
+    qtbot.waitSignal(job.finished, timeout=5000).wait()
+    assert seen[-1] == ("changed", Changes(runs=True)) and progress == []
+
+
+def test_model_jobs_run_one_at_a_time_and_a_waiting_one_says_so(qtbot, runner):
+    from honebench.core.events import Stage
+
+    release = threading.Event()
+    inside, most = [0], [0]
+    lock = threading.Lock()
+
+    def model_work(ctx):
+        with lock:
+            inside[0] += 1
+            most[0] = max(most[0], inside[0])
+        release.wait(10)
+        with lock:
+            inside[0] -= 1
+        return "answered"
+
+    first = runner.submit(model_work, name="grading", uses_model=True)
+    told = []
+    second = runner.submit(model_work, name="suggestions", uses_model=True,
+                           progress=told.append)
+    other = runner.submit(lambda ctx: "written", name="export")  # needs no model
+    qtbot.waitSignal(other.finished, timeout=5000).wait()
+    assert other.state == "done"  # ran while the model was busy
+    assert second.state == "waiting" and runner.waiting() == [second]
+    assert isinstance(told[0], Stage) and "waiting for the model: grading" in told[0].text
+    release.set()
+    qtbot.waitSignal(second.finished, timeout=10_000).wait()
+    assert first.state == second.state == "done"
+    assert most[0] == 1  # never two inside the model at once
+
+
+def test_a_waiting_model_job_cancelled_is_delivered_at_once(qtbot, runner):
+    release = threading.Event()
+    first = runner.submit(lambda ctx: release.wait(10), name="grading", uses_model=True)
+    ran = []
+    second = runner.submit(lambda ctx: ran.append(1), name="suggestions", uses_model=True)
+    lanes = []
+    runner.lane_changed.connect(lanes.append)
+    with qtbot.waitSignal(second.cancelled, timeout=5000):
+        second.cancel()
+    assert first.state in ("queued", "running")  # still holding the model
+    assert lanes[-1] == "model: grading"
+    release.set()
+    qtbot.waitSignal(first.finished, timeout=10_000).wait()
+    assert ran == []  # the cancelled job never ran
+    assert runner.model_job() is None

@@ -15,11 +15,11 @@ from honebench.core.project import ShelfRow
 from honebench.core.records import Mark, ShelfEntry
 from honebench.core.sets import ColumnMapping, load_set, preview
 from honebench.core.stats import score
-from honebench.gui.item_view import ItemView
-from honebench.gui.mapping_dialog import MappingDialog
-from honebench.gui.shelf_model import (CAUTION_TEXT, EMPTY_TEXT, ID_ROLE, TUNING, VERSION,
+from honebench.gui.grading.item_view import ItemView
+from honebench.gui.project.mapping_dialog import MappingDialog
+from honebench.gui.shelf.model import (EMPTY_TEXT, ID_ROLE, TUNING, VERSION,
                                        score_cell)
-from honebench.gui.shelf_panel import ShelfPanel
+from honebench.gui.shelf.panel import ShelfPanel
 
 TEXTS = {
     1: "Which department should handle this message? Reply with one word.",
@@ -148,7 +148,6 @@ def test_empty_shelf_says_what_to_do(qtbot):
     assert panel.empty.text() == EMPTY_TEXT
     assert panel.details.isHidden()
     assert panel.selected_id() is None
-    assert panel.caution.text() == CAUTION_TEXT
 
 
 # -- item view --------------------------------------------------------------------------

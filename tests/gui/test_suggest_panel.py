@@ -10,8 +10,7 @@ from pathlib import Path
 import pytest
 from PySide6.QtCore import Qt
 
-from honebench.gui.main_window import MainWindow
-from honebench.gui.suggest_attach import attach_suggestions
+from honebench.gui.app import compose
 from tests.core.suggest_fixtures import small_project
 from tests.fakes import FakeEngine
 
@@ -94,15 +93,15 @@ def open_window(qtbot, runner, settings, tmp_path, sample_dir, make_answer=None,
     if make_answer is not None:
         engine = FakeEngine(make_answer(table), on_call=on_call)
         kwargs["engine_factory"] = lambda _source: engine
-    window = MainWindow(runner, settings, quiet=True, **kwargs)
-    qtbot.addWidget(window)
-    suggest, hone = attach_suggestions(window)
-    window.show()
-    with qtbot.waitSignal(window.project_loaded, timeout=WAIT):
-        window.open_project(path)
-    qtbot.waitUntil(lambda: window.engine_bar.handle is not None,
+    app = compose(runner, settings, quiet=True, **kwargs)
+    qtbot.addWidget(app.window)
+    app.window.show()
+    with qtbot.waitSignal(app.session.opened, timeout=WAIT):
+        app.session.open_project(path)
+    qtbot.waitUntil(lambda: app.engine.handle is not None,
                     timeout=MODEL_WAIT if make_answer is None else WAIT)
-    return window, suggest, hone, path
+    return app, app.suggest, app.hone, path
+
 
 
 def run_suggest(qtbot, suggest, strategy, count, timeout=WAIT):
@@ -118,13 +117,15 @@ def test_menu_actions_and_rule_before_the_first_run(qtbot, runner, settings, tmp
                                                      sample_dir):
     window, suggest, hone, _ = open_window(qtbot, runner, settings, tmp_path, sample_dir,
                                            rephrase_engine)
-    texts = [a.text() for a in window.menuBar().actions()[2].menu().actions()]
+    texts = [a.text() for a in window.window.menus["run"].actions()]
     assert "Suggest &variants…" in texts and "&Auto-hone…" in texts
-    suggest_action, _hone_action = suggest.menu_actions
-    assert not suggest_action.shortcut().isEmpty()
+    assert not window.suggest_action.shortcut().isEmpty()
+    # held-out items are graded only by confirming a shelf version: not from the toolbar
+    toolbar = [a.text() for a in window.window.toolbars["grading"].actions()]
+    assert not any("held" in t.lower() for t in toolbar)
     # no shortcut of the window is given twice (an ambiguous key does nothing in Qt)
     from PySide6.QtGui import QAction
-    keys = [s.toString() for a in window.findChildren(QAction) for s in a.shortcuts()]
+    keys = [s.toString() for a in window.window.findChildren(QAction) for s in a.shortcuts()]
     assert len(keys) == len(set(keys))
     # 11 tuning items: the slice is all of them but one (min(11, max(10, 11 // 4)) = 10)
     assert "first 10 tuning items" in suggest.rule.text()
@@ -134,10 +135,21 @@ def test_menu_actions_and_rule_before_the_first_run(qtbot, runner, settings, tmp
 
 
 def test_suggest_keep_set_aside_and_reopen(qtbot, runner, settings, tmp_path, sample_dir):
+    from honebench.core.events import Stage
+    from honebench.gui.project.operations import Candidates
+
     window, suggest, _hone, path = open_window(qtbot, runner, settings, tmp_path, sample_dir,
                                                rephrase_engine)
     base_text = window.editor.wording().text
+    events = []
+    runner.job_started.connect(lambda job: job.progress.connect(events.append))
     outcome = run_suggest(qtbot, suggest, "rephrase", 3)
+    # while scoring, each suggestion's running score came in; the last read is final
+    last = [e for e in events if isinstance(e, Candidates)][-1]
+    assert sorted((c.text, c.passed, c.done) for c in last.items) == sorted(
+        (c.text, c.score.passed, 11) for c in outcome.cards)
+    stages = [e for e in events if isinstance(e, Stage) and e.progress is not None]
+    assert stages[-1].progress.done == stages[-1].progress.total
     assert [c.text for c in outcome.cards] == list(reversed(REPHRASES))  # best first
     assert len(suggest.cards) == 3
     first, second, third = suggest.cards
@@ -151,42 +163,43 @@ def test_suggest_keep_set_aside_and_reopen(qtbot, runner, settings, tmp_path, sa
     assert first.origin.text() == "Strategy: rephrase of the editor's wording"
     first.grab().save(str(snap_dir() / "suggest_card.png"))
 
-    with qtbot.waitSignal(window.shelf_changed, timeout=WAIT):
+    with qtbot.waitSignal(suggest.decided, timeout=WAIT):
         qtbot.mouseClick(first.keep_button, Qt.MouseButton.LeftButton)
     assert first.outcome.text() == "<b>✓ kept as v1</b>"
     assert not first.keep_button.isEnabled() and not first.aside_button.isEnabled()
     qtbot.keyClicks(second.reason, "too long for the desk")
-    with qtbot.waitSignal(window.shelf_changed, timeout=WAIT):
+    with qtbot.waitSignal(suggest.decided, timeout=WAIT):
         qtbot.mouseClick(second.aside_button, Qt.MouseButton.LeftButton)
     assert "set aside" in second.outcome.text()
-    assert window.shelf.model.rowCount() == 2  # the shelf panel shows both
+    # the shelf panel shows both, once the one shelf model has re-read its rows
+    qtbot.waitUntil(lambda: window.shelf_model.rowCount() == 2, timeout=WAIT)
 
     qtbot.mouseClick(third.load_button, Qt.MouseButton.LeftButton)
     assert window.editor.wording().text == third.card.text
     window.editor.set_wording(window.editor.wording().__class__(base_text, "before"))
 
-    shelf = {e.text: e for e in window.state.project.store.shelf()}
+    shelf = {e.text: e for e in window.session.project.store.shelf()}
     kept, aside = shelf[first.card.text], shelf[second.card.text]
     assert (kept.decision, kept.origin, kept.label) == ("kept", "rephrase", "v1")
     assert (aside.decision, aside.origin, aside.note) == ("set_aside", "rephrase",
                                                            "too long for the desk")
-    window.grab().save(str(snap_dir() / "suggest_window.png"))
+    window.window.grab().save(str(snap_dir() / "suggest_window.png"))
     suggest.grab().save(str(snap_dir() / "suggest_cards.png"))
     assert non_blank(snap_dir() / "suggest_window.png")
 
-    with qtbot.waitSignal(window.project_loaded, timeout=WAIT):
-        window.open_project(path)
+    with qtbot.waitSignal(window.session.opened, timeout=WAIT):
+        window.session.open_project(path)
     assert suggest.cards == []  # a reopened project starts without old cards
-    rows = {r.entry.text: r.entry for r in window.state.shelf}
+    rows = {r.entry.text: r.entry for r in window.shelf_model.rows}
     assert rows[first.card.text].decision == "kept"
     assert rows[second.card.text].decision == "set_aside"
-    assert window.shelf.model.rowCount() == 2
+    assert window.shelf_model.rowCount() == 2
     # blend now has two entries to choose from
-    window.shelf.select(rows[first.card.text].id)
+    window.shelf_panel.select(rows[first.card.text].id)
     suggest.strategy.setCurrentIndex(suggest.strategy.findData("blend"))
     assert suggest.other.count() == 2
     assert suggest.go.isEnabled(), suggest.base_label.text()
-    assert window.problems == []
+    assert window.window.problems == []
 
 
 def test_junk_only_gives_the_plain_message_and_no_cards(qtbot, runner, settings, tmp_path,
@@ -197,7 +210,7 @@ def test_junk_only_gives_the_plain_message_and_no_cards(qtbot, runner, settings,
     assert outcome.cards == [] and suggest.cards == []
     text = suggest.message.text()
     assert "The model gave no usable wording (3 replies dropped: 3 under 3 words" in text
-    assert window.problems == []  # said plainly in the panel, not as a problem dialog
+    assert window.window.problems == []  # said plainly in the panel, not as a problem dialog
     assert suggest.dropped_toggle.isVisible()
     assert suggest.dropped_toggle.text() == "3 replies dropped"
     assert not suggest.dropped.isVisible()
@@ -205,20 +218,20 @@ def test_junk_only_gives_the_plain_message_and_no_cards(qtbot, runner, settings,
     assert suggest.dropped.isVisible() and suggest.dropped.text().count("•") == 3
     qtbot.wait(50)
     suggest.grab().save(str(snap_dir() / "suggest_junk.png"))
-    window.grab().save(str(snap_dir() / "suggest_junk_window.png"))
+    window.window.grab().save(str(snap_dir() / "suggest_junk_window.png"))
 
 
 @pytest.mark.model
 def test_rephrase_with_the_real_model(qtbot, runner, settings, tmp_path, sample_dir):
     window, suggest, _hone, _ = open_window(qtbot, runner, settings, tmp_path, sample_dir)
-    window.engine_bar.max_tokens.setValue(10)
+    window.engine.max_tokens.setValue(10)
     outcome = run_suggest(qtbot, suggest, "rephrase", 2, timeout=MODEL_WAIT)
     if outcome.cards:
         assert len(suggest.cards) == len(outcome.cards)
         assert all(c.card.score.total == 11 for c in suggest.cards)
     else:
         assert "The model gave no usable wording" in suggest.message.text()
-    assert window.problems == []
+    assert window.window.problems == []
     qtbot.wait(100)
     suggest.grab().save(str(snap_dir() / "suggest_real_model.png"))
 
@@ -243,14 +256,15 @@ def test_auto_hone_two_rounds_fill_the_table_and_chart(qtbot, runner, settings, 
     assert hone.chart.held.count() == 2
     assert round(hone.chart.tuning.points()[2].y(), 1) == round(
         outcome.rounds[1].best_tuning.rate * 100, 1)
-    origins = {r.entry.origin for r in window.state.shelf}
+    stored = window.session.project.store.shelf()
+    qtbot.waitUntil(lambda: window.shelf_model.rowCount() == len(stored), timeout=WAIT)
+    origins = {r.entry.origin for r in window.shelf_model.rows}
     assert "auto-hone: rephrase" in origins
-    assert window.shelf.model.rowCount() == len(window.state.shelf)
     assert "Stopped: 2 rounds done." in hone.result.text()
-    hone.dock.raise_()
+    window.window.show_dock("hone")
     qtbot.wait(50)
     hone.grab().save(str(snap_dir() / "hone_panel.png"))
-    window.grab().save(str(snap_dir() / "hone_window.png"))
+    window.window.grab().save(str(snap_dir() / "hone_window.png"))
     assert non_blank(snap_dir() / "hone_window.png")
 
 
@@ -270,8 +284,8 @@ def test_auto_hone_cancel_keeps_finished_rounds(qtbot, runner, settings, tmp_pat
     assert outcome.stop_reason == "cancelled"
     assert 1 <= len(outcome.rounds) < 30
     assert hone.table.rowCount() == len(outcome.rounds) + 1
-    kept = [e for e in window.state.project.store.shelf() if e.decision == "kept"]
+    kept = [e for e in window.session.project.store.shelf() if e.decision == "kept"]
     assert kept  # round 1's improvement stays on the shelf
-    assert len(window.state.project.store.hone_rounds(outcome.session)) == len(outcome.rounds)
+    assert len(window.session.project.store.hone_rounds(outcome.session)) == len(outcome.rounds)
     assert suggest.go.isEnabled()
     assert hone.start_button.isEnabled()

@@ -1,9 +1,9 @@
 """The window end to end with the real bundled model: import, write, grade, filter, read a
-miss, keep, restore, reopen. Plus cancel, closing mid-run, responsiveness and bad input."""
+miss, keep, restore, reopen. Plus cancel, closing mid-run, responsiveness and bad input.
+The window is composed as run_app composes it (honebench.gui.app.compose)."""
 from __future__ import annotations
 
 import csv
-import time
 
 import pytest
 from PySide6.QtCore import Qt, QTimer
@@ -12,42 +12,42 @@ from PySide6.QtWidgets import QFileDialog
 from honebench.core.checks import CheckSpec
 from honebench.core.project import Project
 from honebench.core.sets import ColumnMapping
-from honebench.gui import project_tasks as tasks
-from honebench.gui.main_window import MainWindow
+from honebench.gui.app import App, compose
+from honebench.gui.project.state import preview_set
 
 from .pictures import non_blank
 
 pytestmark = pytest.mark.model
-MODEL_WAIT = 180_000  # ms; generous, the machine may be busy
+MODEL_WAIT = 600_000  # ms; generous, the machine may be shared and busy
 
 
-def new_window(qtbot, runner, settings) -> MainWindow:
-    window = MainWindow(runner, settings, quiet=True)
-    qtbot.addWidget(window)
-    window.show()
-    return window
+def new_window(qtbot, runner, settings) -> App:
+    app = compose(runner, settings, quiet=True)
+    qtbot.addWidget(app.window)
+    app.window.show()
+    return app
 
 
-def wait_ready(qtbot, window, *, with_set=True):
-    qtbot.waitUntil(lambda: window.engine_bar.handle is not None, timeout=MODEL_WAIT)
-    qtbot.waitUntil(lambda: window.state is not None and
-                    (window.state.qset is not None or not with_set), timeout=MODEL_WAIT)
-    assert window.problems == []
+def wait_ready(qtbot, app, *, with_set=True):
+    qtbot.waitUntil(lambda: app.engine.handle is not None, timeout=MODEL_WAIT)
+    qtbot.waitUntil(lambda: app.session.state is not None and
+                    (app.session.qset is not None or not with_set), timeout=MODEL_WAIT)
+    assert app.window.problems == []
 
 
-def open_routing_project(qtbot, window, project_path, sample_dir):
+def open_routing_project(qtbot, app, project_path, sample_dir):
     """An empty project, then the routing set imported as the mapping dialog would do:
     preview (guessed mapping), then the import step with the dialog's answers."""
-    with qtbot.waitSignal(window.project_loaded, timeout=MODEL_WAIT):
-        window.open_project(project_path)
-    assert window.state.qset is None
+    with qtbot.waitSignal(app.session.opened, timeout=MODEL_WAIT):
+        app.session.open_project(project_path)
+    assert app.session.qset is None
     set_path = str(sample_dir / "passenger_desk_routing.csv")
-    head, guess, problems, recipe_check = tasks.preview_set(set_path)
+    head, guess, problems, recipe_check = preview_set(set_path)
     assert guess == ColumnMapping(("message",), "department", "id", None)
     assert problems == []
-    with qtbot.waitSignal(window.project_loaded, timeout=MODEL_WAIT):
-        window.import_flow.run_import(set_path, guess, recipe_check, 0, 0.3)
-    wait_ready(qtbot, window)
+    with qtbot.waitSignal(app.session.opened, timeout=MODEL_WAIT):
+        app.import_flow.run_import(set_path, guess, recipe_check, 0, 0.3)
+    wait_ready(qtbot, app)
 
 
 def type_wording(qtbot, window, text):
@@ -55,10 +55,18 @@ def type_wording(qtbot, window, text):
     qtbot.keyClicks(window.editor.text_edit, text)
 
 
-def grade(qtbot, window, split="tuning", limit=10):
-    with qtbot.waitSignal(window.grade_finished, timeout=MODEL_WAIT) as blocker:
-        window.grade(split, limit)
+def grade(qtbot, app, limit=10):
+    with qtbot.waitSignal(app.grading.finished, timeout=MODEL_WAIT) as blocker:
+        app.grade(limit)
     return blocker.args[0]
+
+
+def keep(qtbot, app, label: str):
+    with qtbot.waitSignal(app.shelf.kept, timeout=30_000):
+        app.keep_action.trigger()
+    qtbot.waitUntil(lambda: label in [r.entry.label for r in app.shelf_model.rows],
+                    timeout=30_000)
+    return sorted(app.shelf_model.rows, key=lambda r: r.entry.version)
 
 
 WORDING = ("Route this passenger message to one department: refund, booking_change, "
@@ -108,7 +116,7 @@ def test_grade_filter_read_keep_restore_and_reopen(qtbot, runner, settings, tmp_
     window.sheet.select_row(2)
     shown = window.sheet.proxy.mark_at(2)
     qtbot.keyClick(window.sheet.table, Qt.Key.Key_Return)
-    view = window.item_view
+    view = window.items.view
     assert view is not None and view.isVisible()
     assert view.mark.item_id == shown.item_id
     view.step_requested.emit(1)
@@ -119,26 +127,28 @@ def test_grade_filter_read_keep_restore_and_reopen(qtbot, runner, settings, tmp_
     assert non_blank(shots / "item_view.png")
     view.close()
 
-    with qtbot.waitSignal(window.shelf_changed, timeout=30_000):
+    height = window.window.height()
+    with qtbot.waitSignal(window.shelf.kept, timeout=30_000):
         qtbot.keyClick(window.editor.text_edit, Qt.Key.Key_K, Qt.KeyboardModifier.ControlModifier)
-    v1 = window.state.shelf[0].entry
+    qtbot.waitUntil(lambda: window.shelf_model.rowCount() == 1, timeout=30_000)
+    v1 = window.shelf_model.rows[0].entry
     assert (v1.label, v1.text, v1.decision) == ("v1", WORDING, "kept")
-    assert window.state.shelf[0].tuning.total == 10  # its score comes from the run
+    assert window.shelf_model.rows[0].tuning.total == 10  # its score comes from the run
+    assert window.window.height() == height  # keeping does not grow the window
 
     second = WORDING + " One word."
     type_wording(qtbot, window, second)
-    with qtbot.waitSignal(window.shelf_changed, timeout=30_000):
-        window.keep_current()
-    assert [r.entry.label for r in window.state.shelf] == ["v1", "v2"]
-    assert window.state.shelf[1].entry.parent_id is None
-    window.grab().save(str(shots / "window_graded.png"))
+    rows = keep(qtbot, window, "v2")
+    assert [r.entry.label for r in rows] == ["v1", "v2"]
+    assert rows[1].entry.parent_id is None
+    window.window.grab().save(str(shots / "window_graded.png"))
     assert non_blank(shots / "window_graded.png")
 
     # export: read back with the standard library's CSV reader (RFC 4180 quoting)
     out = tmp_path / "marks.csv"
     monkeypatch.setattr(QFileDialog, "getSaveFileName", lambda *a, **k: (str(out), ""))
-    window.export_marks()
-    assert runner.wait_idle(30_000)
+    with qtbot.waitSignal(window.exports.exported, timeout=30_000):
+        window.marks_action.trigger()
     with out.open(newline="", encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
     shown = {m.item_id: m for m in model.marks()}
@@ -146,30 +156,30 @@ def test_grade_filter_read_keep_restore_and_reopen(qtbot, runner, settings, tmp_
     assert all((r["passed"] == "True") == shown[r["item_id"]].passed for r in rows)
     assert all(r["output"] == shown[r["item_id"]].output for r in rows)
 
-    window.shelf.restore_requested.emit(v1.id)
+    window.shelf_panel.restore_requested.emit(v1.id)
     assert window.editor.wording().text == WORDING
-    assert window.actions.undo.isEnabled()
-    window.actions.undo.trigger()  # restoring is one undoable edit
+    assert window.undo_action.isEnabled()
+    window.undo_action.trigger()  # restoring is one undoable edit
     assert window.editor.wording().text == second
-    window.actions.redo.trigger()
+    window.redo_action.trigger()
     assert window.editor.wording().text == WORDING
-    with qtbot.waitSignal(window.draft_saved, timeout=30_000):
+    with qtbot.waitSignal(window.session.draft_saved, timeout=30_000):
         pass
     assert check_store.draft().text == WORDING
     check_store.close()
-    window.close()
+    window.window.close()
     assert settings.value("window/state") is not None
 
     again = new_window(qtbot, runner, settings)
-    with qtbot.waitSignal(again.project_loaded, timeout=MODEL_WAIT):
-        again.open_project(project_path)
+    with qtbot.waitSignal(again.session.opened, timeout=MODEL_WAIT):
+        again.session.open_project(project_path)
     assert again.editor.wording().text == WORDING
-    assert again.editor.wording().placement == window.state.draft.placement
-    assert [r.entry.label for r in again.state.shelf] == ["v1", "v2"]
+    assert again.editor.wording().placement == window.session.state.draft.placement
+    assert [r.entry.label for r in again.shelf_model.rows] == ["v2", "v1"]
     assert again.sheet.model.rowCount() == 10
-    assert again.state.last_run.id == result.run.id
+    assert again.session.state.last_run.id == result.run.id
     assert again.sheet.summary.score_label.text() == window.sheet.summary.score_label.text()
-    again.close()
+    again.window.close()
 
 
 def test_cancel_keeps_the_finished_marks(qtbot, runner, settings, tmp_path, sample_dir):
@@ -177,11 +187,11 @@ def test_cancel_keeps_the_finished_marks(qtbot, runner, settings, tmp_path, samp
     window = new_window(qtbot, runner, settings)
     open_routing_project(qtbot, window, project_path, sample_dir)
     type_wording(qtbot, window, WORDING)
-    with qtbot.waitSignal(window.grade_finished, timeout=MODEL_WAIT) as blocker:
-        window.grade("tuning", 40)
+    with qtbot.waitSignal(window.grading.finished, timeout=MODEL_WAIT) as blocker:
+        window.grade(40)
         qtbot.waitUntil(lambda: window.sheet.progress.value() >= 2, timeout=MODEL_WAIT)
-        assert window.actions.cancel.isEnabled()
-        window.actions.cancel.trigger()
+        assert window.cancel_action.isEnabled()
+        window.cancel_action.trigger()
     result = blocker.args[0]
     assert result.outcome.status == "cancelled"
     kept = len(result.outcome.marks)
@@ -191,9 +201,9 @@ def test_cancel_keeps_the_finished_marks(qtbot, runner, settings, tmp_path, samp
     assert project.store.run_counts(result.run.id)[1] == kept
     assert project.store.run(result.run.id).status == "cancelled"
     project.close()
-    assert not window.actions.cancel.isEnabled()
-    assert window.actions.grade.isEnabled()
-    window.close()
+    assert not window.cancel_action.isEnabled()
+    assert window.grade_action.isEnabled()
+    window.window.close()
 
 
 def test_closing_during_a_run_stops_it_and_keeps_its_marks(qtbot, runner, settings, tmp_path,
@@ -202,9 +212,9 @@ def test_closing_during_a_run_stops_it_and_keeps_its_marks(qtbot, runner, settin
     window = new_window(qtbot, runner, settings)
     open_routing_project(qtbot, window, project_path, sample_dir)
     type_wording(qtbot, window, WORDING)
-    window.grade("tuning", 40)
+    window.grade(40)
     qtbot.waitUntil(lambda: window.sheet.progress.value() >= 1, timeout=MODEL_WAIT)
-    window.close()  # cancels, waits for the job, closes the engine
+    window.window.close()  # cancels, waits for the job, closes the engine
     assert runner.active() == []
     project = Project(project_path)
     run = project.store.runs()[-1]
@@ -216,48 +226,48 @@ def test_closing_during_a_run_stops_it_and_keeps_its_marks(qtbot, runner, settin
 
 def test_the_event_loop_keeps_ticking_during_a_grade_run(qtbot, runner, settings, tmp_path,
                                                          sample_dir):
+    """The run is a job: timers fire and typing lands while the model answers (checked
+    by what happens during the run, not by how fast)."""
     window = new_window(qtbot, runner, settings)
     open_routing_project(qtbot, window, tmp_path / "ticks.hone", sample_dir)
     type_wording(qtbot, window, WORDING)
-    window.grade_limit = 10
+    window.grading.limit = 10
     ticks = []
     timer = QTimer()
-    timer.setInterval(50)
-    timer.timeout.connect(lambda: ticks.append(time.monotonic()))
-    timer.start()
-    start = time.monotonic()
-    with qtbot.waitSignal(window.grade_finished, timeout=MODEL_WAIT):
+    timer.setInterval(20)
+    timer.timeout.connect(lambda: ticks.append(window.sheet.model.rowCount()))
+    with qtbot.waitSignal(window.grading.finished, timeout=MODEL_WAIT):
         # Ctrl+Return in the editor starts the run
         qtbot.keyClick(window.editor.text_edit, Qt.Key.Key_Return,
                        Qt.KeyboardModifier.ControlModifier)
         assert window.grading.running  # a job: this thread goes on at once
+        timer.start()
         qtbot.keyClicks(window.editor.text_edit, " Thank you.")  # typing while it runs
-    seconds = time.monotonic() - start
+        assert window.grading.running
     timer.stop()
-    assert seconds > 1.0  # a real run, long enough to measure
-    assert len(ticks) / seconds >= 5, f"{len(ticks)} ticks in {seconds:.1f} s"
-    gaps = [b - a for a, b in zip(ticks, ticks[1:])]
-    assert max(gaps) < 2.0, f"the event loop stalled for {max(gaps):.2f} s"
+    # the timer fired while marks were still arriving: a blocked thread would have shown
+    # all ten at once, never a partly filled sheet
+    assert any(0 < n < 10 for n in ticks), ticks
     assert window.editor.wording().text.endswith("Thank you.")
-    window.close()
+    window.window.close()
 
 
 def test_a_bad_model_file_gets_a_message_and_the_engine_stays(qtbot, runner, settings,
                                                               tmp_path):
     window = new_window(qtbot, runner, settings)
-    qtbot.waitUntil(lambda: window.engine_bar.handle is not None, timeout=MODEL_WAIT)
-    before = window.engine_bar.handle
+    qtbot.waitUntil(lambda: window.engine.handle is not None, timeout=MODEL_WAIT)
+    before = window.engine.handle
     bad = tmp_path / "broken.gguf"
     bad.write_bytes(b"not a model" * 200)
-    with qtbot.waitSignal(window.engine_bar.engine_failed, timeout=30_000) as blocker:
-        window.engine_bar.load(str(bad))
+    with qtbot.waitSignal(window.engine.engine_failed, timeout=30_000) as blocker:
+        window.engine.load(str(bad))
     message = blocker.args[0]
     assert "broken.gguf" in message and "GGUF" in message
     assert "stays" in message
-    assert window.engine_bar.handle is before
-    assert window.problems and window.problems[-1][0] == "The model did not load"
-    assert window.engine_bar.choice.currentData() == ""  # back on the bundled model
-    window.close()
+    assert window.engine.handle is before
+    assert window.window.problems and window.window.problems[-1][0] == "The model did not load"
+    assert window.engine.choice.currentData() == ""  # back on the bundled model
+    window.window.close()
 
 
 def test_a_bad_question_set_is_refused_with_row_and_column(qtbot, runner, settings, tmp_path):
@@ -265,24 +275,24 @@ def test_a_bad_question_set_is_refused_with_row_and_column(qtbot, runner, settin
     bad.write_text("id,message,department\nq1,Where is my refund?,refund\nq2,Lost a bag,\n",
                    encoding="utf-8")
     window = new_window(qtbot, runner, settings)
-    with qtbot.waitSignal(window.project_loaded, timeout=MODEL_WAIT):
-        window.open_project(tmp_path / "empty.hone")
+    with qtbot.waitSignal(window.session.opened, timeout=MODEL_WAIT):
+        window.session.open_project(tmp_path / "empty.hone")
     with qtbot.waitSignal(window.import_flow.failed, timeout=30_000) as blocker:
         window.import_flow.run_import(str(bad), ColumnMapping(("message",), "department", "id"),
                                       CheckSpec(kind="label"))
     assert "row 3" in blocker.args[0].lower() and "department" in blocker.args[0]
-    title, message = window.problems[-1]
+    title, message = window.window.problems[-1]
     assert title == "The question set was not imported"
     assert "Nothing in the project was changed" in message
     assert Project(tmp_path / "empty.hone").store.set_ids() == []
-    window.close()
+    window.window.close()
 
 
 def test_dropping_a_set_goes_through_the_mapping_dialog(qtbot, runner, settings, tmp_path,
                                                         sample_dir, monkeypatch):
     from PySide6.QtCore import QMimeData, QPointF, QUrl
     from PySide6.QtGui import QDragEnterEvent, QDropEvent
-    from honebench.gui.mapping_dialog import MappingDialog
+    from honebench.gui.project.mapping_dialog import MappingDialog
     from honebench.gui.tour import GuidedTour
 
     shots = tmp_path / "snap"
@@ -301,33 +311,33 @@ def test_dropping_a_set_goes_through_the_mapping_dialog(qtbot, runner, settings,
 
     monkeypatch.setattr(MappingDialog, "exec", answer)
     window = new_window(qtbot, runner, settings)
-    with qtbot.waitSignal(window.project_loaded, timeout=MODEL_WAIT):
-        window.open_project(tmp_path / "dropped.hone")
+    with qtbot.waitSignal(window.session.opened, timeout=MODEL_WAIT):
+        window.session.open_project(tmp_path / "dropped.hone")
     mime = QMimeData()
     mime.setUrls([QUrl.fromLocalFile(str(own))])
-    enter = QDragEnterEvent(QPointF(window.rect().center()), Qt.DropAction.CopyAction, mime,
+    enter = QDragEnterEvent(QPointF(window.window.rect().center()), Qt.DropAction.CopyAction, mime,
                             Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier)
-    window.dragEnterEvent(enter)
+    window.window.dragEnterEvent(enter)
     assert enter.isAccepted()
-    drop = QDropEvent(QPointF(window.rect().center()), Qt.DropAction.CopyAction, mime,
+    drop = QDropEvent(QPointF(window.window.rect().center()), Qt.DropAction.CopyAction, mime,
                       Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier)
     with qtbot.waitSignal(window.import_flow.imported, timeout=60_000) as blocker:
-        window.dropEvent(drop)
+        window.window.dropEvent(drop)
     state = blocker.args[0]
     assert seen["title"] == "Columns of desk_messages.csv"
     assert state.qset.mapping == ColumnMapping(("message",), "department", "id", None)
     assert state.qset.held_out_fraction == 0.25
     assert len(state.qset.held_out()) == round(120 * 0.25)
     assert window.editor.fields == ["message"]
-    assert "desk_messages" in window.windowTitle()
+    assert "desk_messages" in window.window.windowTitle()
     assert non_blank(shots / "mapping_dialog.png")
 
     text_file = tmp_path / "notes.pdf"
     text_file.write_bytes(b"%PDF")
     mime.setUrls([QUrl.fromLocalFile(str(text_file))])
-    refused = QDragEnterEvent(QPointF(window.rect().center()), Qt.DropAction.CopyAction, mime,
+    refused = QDragEnterEvent(QPointF(window.window.rect().center()), Qt.DropAction.CopyAction, mime,
                               Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier)
-    window.dragEnterEvent(refused)
+    window.window.dragEnterEvent(refused)
     assert not refused.isAccepted()
 
     tour = window.show_tour()
@@ -337,4 +347,4 @@ def test_dropping_a_set_goes_through_the_mapping_dialog(qtbot, runner, settings,
     tour.grab().save(str(shots / "guided_tour.png"))
     assert non_blank(shots / "guided_tour.png")
     tour.close()
-    window.close()
+    window.window.close()

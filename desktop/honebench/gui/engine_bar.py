@@ -1,8 +1,9 @@
 """Choosing the engine: the bundled model or a GGUF file, with temperature and max tokens.
 
-Loading a model is a background job. A file that cannot be loaded gets a dialog naming the
-problem; the engine in use stays. Jobs use the engine through an ``EngineHandle``, so an
-engine is closed only once no job is using it.
+Loading a model is a job on the model lane: switching first cancels the model work running
+or waiting and starts once it has stopped. A file that cannot be loaded gets a dialog
+naming the problem; the engine in use stays. Jobs use the engine through an
+``EngineHandle``, so an engine is closed only once no job is using it.
 """
 from __future__ import annotations
 
@@ -67,6 +68,7 @@ class EngineBar(QWidget):
 
     engine_ready = Signal(object)
     engine_failed = Signal(str)
+    switching = Signal(str)  # names the model work cancelled to switch engines
 
     def __init__(self, runner: JobRunner, settings: QSettings,
                  factory: Callable[[str | None], object] = open_local_engine, parent=None):
@@ -149,6 +151,11 @@ class EngineBar(QWidget):
         """Load ``source`` (a GGUF path, or "" for the bundled model) in a job."""
         if self._loading is not None:
             self._loading.cancel()
+        busy = [job.name for job in [self.runner.model_job(), *self.runner.waiting()]
+                if job is not None and job is not self._loading]
+        if busy and self.handle is not None:
+            self.runner.cancel_model_jobs()
+            self.switching.emit(", ".join(busy))
         self._select(source)
         self.status.setText("loading the model…")
         self.status.setToolTip(source or "the bundled model")
@@ -158,7 +165,7 @@ class EngineBar(QWidget):
         self._loading = self.runner.submit(
             lambda ctx: EngineHandle(factory(source or None), source),
             done=self._on_loaded, failed=lambda msg: self._on_failed(source, msg),
-            name="load the engine")
+            name="load the model", uses_model=True)
 
     def choose_file(self) -> None:
         start = str(self.settings.value("engine/last_dir", str(Path.home())))
@@ -169,23 +176,25 @@ class EngineBar(QWidget):
             self.load(path)
 
     def set_busy(self, busy: bool) -> None:
-        """No switching engines while a grade run uses the current one."""
+        """No second switch while a model is loading."""
         idle = not busy and self._loading is None
         self.choice.setEnabled(idle)
         self.browse.setEnabled(idle)
 
     def close_engine(self) -> None:
-        """Close the engine in a job, once nothing uses it."""
+        """Close the engine in a job on the model lane, once nothing uses it."""
         handle, self.handle = self.handle, None
         if handle is not None:
-            self.runner.submit(lambda ctx: handle.retire(), name="close the engine")
+            self.runner.submit(lambda ctx: handle.retire(), name="close the model",
+                               uses_model=True)
 
     # -- internals -----------------------------------------------------------------------
     def _on_loaded(self, handle: EngineHandle) -> None:
         self._loading = None
         old, self.handle = self.handle, handle
         if old is not None:
-            self.runner.submit(lambda ctx: old.retire(), name="close the old engine")
+            self.runner.submit(lambda ctx: old.retire(), name="close the old model",
+                               uses_model=True)
         self._shown_source = handle.source
         self.settings.setValue("engine/source", handle.source)
         if handle.source:

@@ -5,9 +5,19 @@ readable message) and any progress it reports arrive back on the GUI thread, thr
 callbacks given to ``submit`` and through the runner's and the job's signals. A job asked
 to cancel sees ``ctx.cancel_event`` set; it may return what it has (delivered as done) or
 raise ``JobCancelled`` (delivered as cancelled).
+
+Operations return ``Done(value, changes)`` (honebench.core.changes): the runner then emits
+``project_changed(changes)`` on the GUI thread, and the done callback gets ``value``. Views
+subscribe to that one signal instead of being refreshed by hand.
+
+The model lane: jobs submitted with ``uses_model=True`` run one at a time, in the order
+asked. A job waiting for the lane is told so through its progress callback
+(``Stage("waiting for the model: …")``) and ``lane_changed`` says what runs and what waits,
+so two users of the model never meet inside it.
 """
 from __future__ import annotations
 
+import collections
 import itertools
 import logging
 import threading
@@ -18,7 +28,9 @@ from typing import Any, Callable
 from PySide6.QtCore import (QCoreApplication, QEventLoop, QObject, QRunnable, Qt, QThreadPool,
                             Signal, Slot)
 
+from ..core.changes import Changes, Done
 from ..core.engines.base import EngineError
+from ..core.events import Stage
 from ..core.sets import SetError
 from ..core.store import StoreError
 
@@ -60,8 +72,9 @@ class JobContext:
             raise JobCancelled()
 
     def report(self, payload: Any) -> None:
-        """Send ``payload`` to the GUI thread (the job's progress callback)."""
-        self._job._relay.event.emit(self._job.id, "progress", payload)
+        """Send ``payload`` to the GUI thread (the job's progress callback); a ``Changes``
+        value is emitted as ``project_changed`` instead (work committed mid-run)."""
+        self._job.relay.event.emit(self._job.id, "progress", payload)
 
 
 class _Relay(QObject):
@@ -81,16 +94,21 @@ class Job(QObject):
 
     def __init__(self, job_id: int, name: str, relay: _Relay):
         super().__init__()
-        self.id, self.name, self._relay = job_id, name, relay
+        self.id, self.name, self.relay = job_id, name, relay
         self.cancel_event = threading.Event()
-        self.state = "queued"  # queued | running | done | failed | cancelled
+        self.state = "queued"  # queued | waiting | running | done | failed | cancelled
+        self.uses_model = False
         self.result: Any = None
         self.error: str | None = None
-        self._runnable: QRunnable | None = None
+        self.runnable: QRunnable | None = None
 
     def cancel(self) -> None:
-        """Ask the job to stop; a job still waiting for a thread never starts."""
+        """Ask the job to stop; a job still waiting for a thread or the model never starts
+        (one waiting for the model is delivered as cancelled at once)."""
+        already = self.cancel_event.is_set()
         self.cancel_event.set()
+        if self.state == "waiting" and not already:
+            self.relay.event.emit(self.id, "cancelled", None)
 
     @property
     def is_finished(self) -> bool:
@@ -107,7 +125,7 @@ class _Runnable(QRunnable):
         self.job, self.fn = job, fn
 
     def run(self) -> None:
-        job, emit = self.job, self.job._relay.event.emit
+        job, emit = self.job, self.job.relay.event.emit
         if job.cancel_event.is_set():
             emit(job.id, "cancelled", None)
             return
@@ -127,6 +145,8 @@ class JobRunner(QObject):
     """Runs jobs on its own thread pool and delivers their outcome on the GUI thread."""
 
     job_started = Signal(object)
+    project_changed = Signal(object)  # Changes, after an operation that returned Done
+    lane_changed = Signal(str)  # "" when the model is free, else what runs and what waits
     job_finished = Signal(object)  # the Job, whatever its outcome
     job_failed = Signal(object, str)  # every failure, handled or not
     unhandled_error = Signal(str, str)  # (job name, message) for jobs without a failed callback
@@ -136,22 +156,77 @@ class JobRunner(QObject):
         super().__init__(parent)
         self._pool = QThreadPool(self)
         self._pool.setMaxThreadCount(max_threads)
-        self._relay = _Relay()
-        self._relay.event.connect(self._on_event, Qt.ConnectionType.QueuedConnection)
+        self.relay = _Relay()
+        self.relay.event.connect(self._on_event, Qt.ConnectionType.QueuedConnection)
         self._jobs: dict[int, tuple[Job, dict]] = {}
         self._ids = itertools.count(1)
+        self._lane: collections.deque[Job] = collections.deque()  # waiting for the model
+        self._lane_job: Job | None = None  # the one job using the model
 
     def submit(self, fn: Callable[[JobContext], Any], *, done: Callable | None = None,
                failed: Callable[[str], None] | None = None,
                progress: Callable[[Any], None] | None = None,
-               cancelled: Callable[[], None] | None = None, name: str = "") -> Job:
-        """Run ``fn(ctx)`` on a worker thread; callbacks run on the GUI thread."""
-        job = Job(next(self._ids), name or getattr(fn, "__name__", "job"), self._relay)
+               cancelled: Callable[[], None] | None = None, name: str = "",
+               uses_model: bool = False) -> Job:
+        """Run ``fn(ctx)`` on a worker thread; callbacks run on the GUI thread.
+        ``uses_model``: wait for the model lane (one such job at a time)."""
+        job = Job(next(self._ids), name or getattr(fn, "__name__", "job"), self.relay)
+        job.uses_model = uses_model
         self._jobs[job.id] = (job, {"done": done, "failed": failed, "progress": progress,
                                     "cancelled": cancelled})
-        job._runnable = _Runnable(job, fn)
-        self._pool.start(job._runnable)
+        job.runnable = _Runnable(job, fn)
+        if not uses_model:
+            self._pool.start(job.runnable)
+        elif self._lane_job is None:
+            self._lane_job = job
+            self._pool.start(job.runnable)
+            self._lane_report()
+        else:
+            job.state = "waiting"
+            self._lane.append(job)
+            self._call(job, progress, Stage(f"waiting for the model: {self._lane_job.name} "
+                                            "runs first"))
+            self._lane_report()
         return job
+
+    def model_job(self) -> Job | None:
+        """The job using the model now, if any."""
+        return self._lane_job
+
+    def waiting(self) -> list[Job]:
+        """Jobs waiting for the model, first first."""
+        return list(self._lane)
+
+    def cancel_model_jobs(self) -> None:
+        """Cancel the job using the model and every job waiting for it."""
+        for job in [self._lane_job, *self._lane]:
+            if job is not None:
+                job.cancel()
+
+    def _lane_report(self) -> None:
+        if self._lane_job is None:
+            self.lane_changed.emit("")
+            return
+        text = f"model: {self._lane_job.name}"
+        if self._lane:
+            text += " · waiting: " + ", ".join(j.name for j in self._lane)
+        self.lane_changed.emit(text)
+
+    def _lane_next(self, finished: Job) -> None:
+        """A lane job delivered its outcome: start the next one waiting (a cancelled one
+        is delivered as cancelled without running)."""
+        if finished is not self._lane_job:
+            if finished in self._lane:
+                self._lane.remove(finished)
+                self._lane_report()
+            return
+        self._lane_job = None
+        if self._lane:
+            job = self._lane.popleft()
+            self._lane_job = job
+            job.state = "queued"
+            self._pool.start(job.runnable)
+        self._lane_report()
 
     def active(self) -> list[Job]:
         """Jobs submitted and not yet finished (their outcome not yet delivered)."""
@@ -186,12 +261,20 @@ class JobRunner(QObject):
         if kind == "progress":
             if job.is_finished:
                 return
+            if isinstance(payload, Changes):  # committed mid-run (e.g. one auto-hone round)
+                if payload:
+                    self.project_changed.emit(payload)
+                return
             self._call(job, callbacks["progress"], payload)
             job.progress.emit(payload)
             return
         del self._jobs[job_id]
         job.state = kind
         if kind == "done":
+            if isinstance(payload, Done):  # an operation: say what changed, then its value
+                if payload.changes:
+                    self.project_changed.emit(payload.changes)
+                payload = payload.value
             job.result = payload
             self._call(job, callbacks["done"], payload)
             job.done.emit(payload)
@@ -206,6 +289,8 @@ class JobRunner(QObject):
         else:
             self._call(job, callbacks["cancelled"])
             job.cancelled.emit()
+        if job.uses_model:
+            self._lane_next(job)
         job.finished.emit()
         self.job_finished.emit(job)
         if not self._jobs:

@@ -12,29 +12,37 @@ STEPS = (
      "The sample project routes messages sent to a ferry company's passenger desk to one "
      "of five departments: refund, booking_change, lost_property, accessibility or "
      "timetable. Each row of the question set is an item: a message and the department "
-     "that should handle it."),
+     "that should handle it. Most items are for tuning; some are held out for the final "
+     "check."),
     ("Write a wording",
      "The editor holds the wording of the instruction. Choose its placement: the system "
      "message, before or after the question, or the start of the answer. {message} is "
-     "filled from each item. The preview on the right shows the exact prompt the model "
-     "will read for one item, with its length in tokens."),
-    ("Grade",
-     "Press Ctrl+Return to grade the tuning items. Marks appear in the grade sheet as the "
-     "model answers, with a progress bar; Esc cancels and keeps what is finished. The "
-     "score comes with its 95% interval: on a hundred items a few points up or down can be "
-     "chance."),
-    ("Read the misses",
-     "Tick Misses only, then press Enter or double-click a row for the item view: the "
-     "prompt, the raw output, the answer pulled out of it, the expected answer and the "
-     "check's reason. The label table shows which departments get mixed up."),
-    ("Keep what works",
-     "Ctrl+K keeps the wording on the shelf as v1, v2, … with its score. Restore any "
-     "version into the editor, compare its words with the editor's, add a note, or set it "
-     "aside. Set-aside versions stay on the shelf, greyed."),
-    ("Check honestly",
-     "When a version looks best on the tuning items, grade the held-out items with "
-     "Ctrl+Shift+Return. They were never used while tuning, so their score is the fair "
-     "one. Everything is saved in the project file as it happens."),
+     "filled from each item. The preview beside it shows the exact prompt the model will "
+     "read for one tuning item, with its length in tokens."),
+    ("Grade and read the misses",
+     "Ctrl+Return grades the tuning items; marks appear one by one and Esc cancels, keeping "
+     "what is finished. The score comes with its 95% interval. Tick Misses only and press "
+     "Enter on a row for the item view: prompt, raw output, extracted answer and why."),
+    ("Ask for suggestions",
+     "In the Suggest tab pick a strategy and press Suggest. The model writes variants; "
+     "each is scored on the tuning items while you watch its running score, and the "
+     "survivors come back as cards, best first."),
+    ("Keep or set aside",
+     "Keep a card (or Ctrl+K for the editor's wording) to put it on the shelf as the next "
+     "version, v1, v2, …, with its score. Set aside the ones you do not want: they stay on "
+     "the shelf, greyed, and are never proposed again."),
+    ("Compare",
+     "Select a version on the shelf and press Compare: both versions on the same items, "
+     "the items one fixed and the other broke, and the paired test on them. A few points "
+     "apart on a small set is often chance."),
+    ("Confirm on held-out items",
+     "The best of many tries looks better on the items it was chosen on. Confirm on "
+     "held-out items grades the selected version on the items never used to choose it: "
+     "the fair score, and the only way held-out items are spent."),
+    ("Export",
+     "File › Export report writes one self-contained HTML page with the shelf, the scores "
+     "and the comparisons; Export chosen wording writes the winner as plain text. "
+     "Everything is saved in the project file as it happens."),
 )
 
 

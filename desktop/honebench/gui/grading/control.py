@@ -1,0 +1,144 @@
+"""Running a grade: one run at a time through the model lane, marks streamed into the grade
+sheet one by one, cancel keeps what is finished. A grade asked for before the model has
+loaded starts once it has. Only tuning items are graded here; held-out items are graded
+only by confirming a shelf version."""
+from __future__ import annotations
+
+from typing import Callable
+
+from PySide6.QtCore import QObject, Signal
+
+from ...core.events import Finished, Marked, Stage, Started
+from ...core.wording import Wording
+from ..jobs import Job, JobRunner
+from ..project import operations
+from ..project.session import ProjectSession
+from ..project.state import SPLIT_WORDS, GradeResult, run_caption
+from .sheet import GradeSheetPanel
+
+
+def label_set(state) -> set[str] | None:
+    """The labels of a label check (its own list, else the set's expected answers)."""
+    if state is None or state.check.kind != "label":
+        return None
+    labels = getattr(state.check, "labels", None) or ()
+    return set(labels) or set(state.expected.values())
+
+
+class GradeControl(QObject):
+    """Signals: ``started(Job)``, ``finished(GradeResult)``, ``failed(str)``,
+    ``running_changed(bool)``."""
+
+    started = Signal(object)
+    finished = Signal(object)
+    failed = Signal(str)
+    running_changed = Signal(bool)
+
+    def __init__(self, runner: JobRunner, session: ProjectSession, sheet: GradeSheetPanel,
+                 engine, show_problem: Callable[[str, str], None],
+                 status: Callable[[str], None], parent=None):
+        super().__init__(parent)
+        self.runner, self.session, self.sheet, self.engine = runner, session, sheet, engine
+        self.show_problem, self.status = show_problem, status
+        self.job: Job | None = None
+        self.pending: tuple | None = None
+        self.last: GradeResult | None = None
+        self.limit: int | None = None  # grade at most this many items (checks, pictures)
+        engine.engine_ready.connect(self._on_engine_ready)
+        sheet.cancel_requested.connect(self.cancel)
+        session.opened.connect(self.show_state)
+
+    @property
+    def running(self) -> bool:
+        return self.job is not None or self.pending is not None
+
+    def show_state(self, state) -> None:
+        """A project was opened: show its last run on the sheet."""
+        qset = state.qset
+        self.sheet.set_has_set(qset is not None)
+        self.sheet.set_labels(label_set(state))
+        caption = (run_caption(state.last_run, len(state.marks)) if state.last_run
+                   else "Grade sheet · no grade run yet")
+        self.sheet.show_marks(state.marks, state.expected, caption)
+        self.sheet.show_summary(state.summary)
+
+    def grade(self, wording: Wording, limit: int | None = None) -> Job | None:
+        """Grade ``wording`` over the tuning items in a job on the model lane."""
+        state = self.session.state
+        if self.job is not None:
+            return self.job
+        if state is None or state.qset is None:
+            self.show_problem("Nothing to grade yet", "Import a question set first "
+                              "(File › Import question set…).")
+            return None
+        if not wording.text.strip():
+            self.show_problem("The wording is empty", "Write an instruction in the editor, "
+                              "then grade.")
+            return None
+        limit = limit or self.limit
+        self.session.note_graded(wording)
+        handle = self.engine.handle
+        self.sheet.start_run(0, state.expected, f"Grading {SPLIT_WORDS['tuning']}…")
+        self.status("Grading the tuning items…")
+        if handle is None:
+            self.pending = (wording, limit)
+            self.sheet.waiting("the model is still loading")
+            self.running_changed.emit(True)
+            return None
+        project, params = state.project, self.engine.params()
+        self.job = self.runner.submit(
+            lambda ctx: operations.grade(project, handle, wording=wording, params=params,
+                                         split="tuning", limit=limit,
+                                         cancel=ctx.cancel_event, on_event=ctx.report),
+            progress=self._on_event, done=self._on_done, failed=self._on_failed,
+            cancelled=lambda: self._on_failed("cancelled before it started"),
+            name="grading", uses_model=True)
+        self.running_changed.emit(True)
+        self.started.emit(self.job)
+        return self.job
+
+    def cancel(self) -> None:
+        if self.job is not None:
+            self.job.cancel()
+            self.sheet.cancelling()
+            self.status("Cancelling; finished marks are kept…")
+        elif self.pending is not None:
+            self.pending = None
+            self.sheet.finish_run("Grading cancelled before it started")
+            self.running_changed.emit(False)
+
+    def _on_event(self, event) -> None:
+        if isinstance(event, Marked):
+            self.sheet.add_mark(event.mark, event.progress)
+        elif isinstance(event, Started):
+            self.sheet.set_total(event.total)
+        elif isinstance(event, Stage):
+            self.sheet.waiting(event.text.removeprefix("waiting for the model: "))
+        elif isinstance(event, Finished) and event.status == "cancelled":
+            self.status("Cancelled; finished marks are kept")
+
+    def _on_done(self, result: GradeResult) -> None:
+        self.job, self.last = None, result
+        state = self.session.state
+        if state is not None:
+            state.last_run, state.summary = result.run, result.summary
+            state.marks = self.sheet.model.marks()
+        caption = run_caption(result.run, len(result.outcome.marks))
+        self.sheet.finish_run(caption)
+        self.sheet.show_summary(result.summary)
+        self.status(f"{caption}: {result.summary.score.text()}")
+        self.running_changed.emit(False)
+        self.finished.emit(result)
+
+    def _on_failed(self, message: str) -> None:
+        self.job = None
+        self.sheet.finish_run("Grade run stopped; finished marks are kept")
+        self.running_changed.emit(False)
+        if message != "cancelled before it started":
+            self.show_problem("The grade run stopped", message)
+        self.failed.emit(message)
+
+    def _on_engine_ready(self, _handle) -> None:
+        if self.pending is not None:
+            (wording, limit), self.pending = self.pending, None
+            self.grade(wording, limit)

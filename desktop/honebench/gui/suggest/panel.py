@@ -1,0 +1,392 @@
+"""The suggestions panel: pick a strategy, ask for variants, read the scored cards, and keep
+or set aside each one onto the shelf. The model and the store are used only in jobs."""
+from __future__ import annotations
+
+import html
+from typing import Callable
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (QCheckBox, QComboBox, QFormLayout, QHBoxLayout, QLabel,
+                               QProgressBar, QPushButton, QSpinBox, QVBoxLayout, QWidget)
+
+from ...core.project import ShelfRow
+from ...core.events import Stage, progress_text
+from ...core.suggest.pipeline import EARLY_RULE, SuggestOutcome
+from ...core.suggest.strategies import STRATEGIES, STRATEGY_LABELS
+from ...core.wording import Wording
+from ..jobs import Job, JobRunner
+from ..project import operations
+from ..project.operations import Candidates
+from ..project.session import ProjectSession
+from ..shelf.model import ShelfModel
+from .outcome import OutcomeArea
+from .cards import (EDITOR, STRATEGY_TIPS, SuggestionCard, early_rule, inputs_text,
+                    outcome_text, small)
+
+
+class SuggestPanel(QWidget):
+    """Signals: ``decided(ShelfEntry)`` after a keep or set aside is saved,
+    ``load_requested(Wording, parent_id)``, ``status(str)``, ``problem(title, message)``,
+    ``running_changed(bool)``, ``finished(SuggestOutcome)``."""
+
+    decided = Signal(object)
+    load_requested = Signal(object, object)
+    status = Signal(str)
+    problem = Signal(str, str)
+    running_changed = Signal(bool)
+    finished = Signal(object)
+
+    def __init__(self, runner: JobRunner, session: ProjectSession, shelf: ShelfModel, engine,
+                 *, editor_wording: Callable[[], Wording],
+                 selected_id: Callable[[], int | None], parent=None):
+        super().__init__(parent)
+        self.runner, self.session, self.shelf, self.engine = runner, session, shelf, engine
+        self.editor_wording, self.selected_id = editor_wording, selected_id
+        self.job: Job | None = None
+        self.outcome: SuggestOutcome | None = None
+        self.cards: list[SuggestionCard] = []
+        self._source = EDITOR
+        self.blocked_reason = ""  # set while auto-hone uses the engine
+
+        self.strategy = QComboBox()
+        for key in STRATEGIES:
+            label = STRATEGY_LABELS[key]
+            self.strategy.addItem(label[0].upper() + label[1:], key)
+            self.strategy.setItemData(self.strategy.count() - 1, STRATEGY_TIPS[key],
+                                      Qt.ItemDataRole.ToolTipRole)
+        self.strategy.setCurrentIndex(STRATEGIES.index("rephrase"))
+        self.strategy.setAccessibleName("Suggestion strategy")
+        self.count = QSpinBox()
+        self.count.setRange(1, 12)
+        self.count.setValue(4)
+        self.count.setAccessibleName("How many suggestions to ask for")
+        self.from_shelf = QCheckBox("Start from the selected shelf entry")
+        self.from_shelf.setAccessibleName("Start from the selected shelf entry instead of the "
+                                          "editor's wording")
+        self.other = QComboBox()
+        self.other.setAccessibleName("Second shelf entry to blend with")
+        self.other_label = QLabel("Blend &with")
+        self.other_label.setBuddy(self.other)
+        self.base_label = small(QLabel())
+        self.base_label.setAccessibleName("What the suggestions start from")
+        self.go = QPushButton("&Suggest")
+        self.go.setAccessibleName("Ask for suggestions")
+        self.go.setDefault(True)
+        self.cancel_button = QPushButton("Cancel")
+        self.cancel_button.setAccessibleName("Cancel the suggestions")
+        self.cancel_button.setEnabled(False)
+        self.progress = QProgressBar()
+        self.progress.setAccessibleName("Suggestion progress")
+        self.stage = small(QLabel())
+        self.stage.setAccessibleName("Suggestion stage")
+        self.rule = small(QLabel())
+        self.rule.setAccessibleName("Early-stop rule")
+        self.scores = small(QLabel())
+        self.scores.setTextFormat(Qt.TextFormat.PlainText)
+        self.scores.setAccessibleName("Running score of each suggestion being scored")
+
+        self.scroll = OutcomeArea()
+        self.diagnosis_box, self.diagnosis = self.scroll.diagnosis_box, self.scroll.diagnosis
+        self.message, self.dropped = self.scroll.message, self.scroll.dropped
+        self.dropped_toggle, self.card_layout = self.scroll.dropped_toggle, self.scroll.card_layout
+        self.dropped_toggle.toggled.connect(self._toggle_dropped)
+
+        form = QFormLayout()
+        form.setContentsMargins(0, 0, 0, 0)
+        strategy_label = QLabel("S&trategy")
+        strategy_label.setBuddy(self.strategy)
+        form.addRow(strategy_label, self.strategy)
+        form.addRow(self.other_label, self.other)
+        form.addRow("", self.from_shelf)
+        count_label = QLabel("&How many")
+        count_label.setBuddy(self.count)
+        buttons = QHBoxLayout()
+        buttons.addWidget(self.count)
+        buttons.addStretch(1)
+        buttons.addWidget(self.go)
+        buttons.addWidget(self.cancel_button)
+        form.addRow(count_label, buttons)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(6, 6, 6, 6)
+        layout.addLayout(form)
+        layout.addWidget(self.base_label)
+        layout.addWidget(self.rule)
+        layout.addWidget(self.progress)
+        layout.addWidget(self.stage)
+        layout.addWidget(self.scores)
+        layout.addWidget(self.scroll, 1)
+
+        self.strategy.currentIndexChanged.connect(lambda _i: self.refresh_base())
+        self.from_shelf.toggled.connect(lambda _c: self.refresh_base())
+        self.other.currentIndexChanged.connect(lambda _i: self.refresh_base())
+        self.go.clicked.connect(self.start)
+        self.cancel_button.clicked.connect(self.cancel)
+        self._show_idle()
+        self.show_outcome(None)
+        session.opened.connect(self.set_project)
+        shelf.rows_changed.connect(self.set_shelf_rows)
+
+    @property
+    def rows(self) -> list[ShelfRow]:
+        return self.shelf.rows
+
+    def state(self):
+        return self.session.state
+
+    # -- method calls down ---------------------------------------------------------------
+    def set_project(self, _state) -> None:
+        """A project was (re)opened: forget the cards."""
+        self.cancel()
+        self.outcome = None
+        self.show_outcome(None)
+
+    def set_shelf_rows(self, _rows=None) -> None:
+        """The shelf changed: refresh the blend chooser and the version names on cards."""
+        keep = self.other.currentData()
+        self.other.blockSignals(True)
+        self.other.clear()
+        for row in sorted(self.rows, key=lambda r: -r.entry.version):
+            entry = row.entry
+            tag = " (set aside)" if entry.decision == "set_aside" else ""
+            short = entry.text if len(entry.text) <= 50 else entry.text[:49] + "…"
+            self.other.addItem(f"{entry.label}{tag}: {short}", entry.id)
+            self.other.setItemData(self.other.count() - 1, entry.text,
+                                   Qt.ItemDataRole.ToolTipRole)
+        index = self.other.findData(keep)
+        self.other.setCurrentIndex(index if index >= 0 else min(1, self.other.count() - 1))
+        self.other.blockSignals(False)
+        self.refresh_base()
+
+    def set_blocked(self, reason: str) -> None:
+        """No suggestions while something else (auto-hone) drives the engine."""
+        self.blocked_reason = reason
+        self._show_idle()
+
+    def labels(self) -> dict[int, str]:
+        return {r.entry.id: r.entry.label for r in self.rows}
+
+    def refresh_base(self) -> None:
+        """Say what the next suggestions start from; show the controls the strategy uses."""
+        strategy = self.strategy.currentData()
+        blend = strategy == "blend"
+        self.other_label.setVisible(blend)
+        self.other.setVisible(blend)
+        self.from_shelf.setVisible(not blend)
+        selected = self.selected_id()
+        if blend and self.other.currentData() == selected:  # offer a different second entry
+            index = next((i for i in range(self.other.count())
+                          if self.other.itemData(i) != selected), -1)
+            if index >= 0:
+                self.other.blockSignals(True)
+                self.other.setCurrentIndex(index)
+                self.other.blockSignals(False)
+        base, _other, why = self._choice()
+        self.base_label.setText(why if base is None else f"Starts from {self._source}.")
+        self.go.setEnabled(self.job is None and base is not None and not self.blocked_reason)
+        if self.job is None and self.outcome is None:
+            self.rule.setText(self._rule_template())
+
+    # -- running -------------------------------------------------------------------------
+    def start(self) -> Job | None:
+        """Ask for suggestions in a job; the cards appear when it is done."""
+        state, handle = self.state(), self.engine.handle
+        base, other_id, why = self._choice()
+        if self.job is not None or state is None:
+            return None
+        if base is None:
+            self.problem.emit("Nothing to start from", why)
+            return None
+        if handle is None:
+            self.problem.emit("No engine yet", "The model is still loading (or did not load); "
+                              "wait for “ready” in the engine bar, then try again.")
+            return None
+        project, strategy, count = state.project, self.strategy.currentData(), self.count.value()
+        params, source = self.engine.params(), self._source
+
+        def work(ctx):
+            return operations.suggest(project, handle, strategy=strategy, count=count,
+                                      base=base, other_id=other_id, params=params,
+                                      cancel=ctx.cancel_event, on_event=ctx.report)
+
+        self.outcome = None
+        self.show_outcome(None)
+        self.message.setText(f"Asking for {count} suggestion(s), {STRATEGY_LABELS[strategy]}, "
+                             f"starting from {source}…")
+        self.job = self.runner.submit(work, done=lambda out: self._finished(out, source),
+                                      failed=self._failed, progress=self._progress,
+                                      cancelled=lambda: self._finished(None, source),
+                                      name="suggestions", uses_model=True)
+        self._show_running()
+        return self.job
+
+    def cancel(self) -> None:
+        if self.job is not None:
+            self.job.cancel()
+            self.stage.setText("Cancelling… scored suggestions are kept")
+
+    def _progress(self, event) -> None:
+        """Stage events: the step, items scored so far and the time left; Candidates: each
+        suggestion's running score."""
+        if isinstance(event, Candidates):
+            self.scores.setText("\n".join(
+                f"• {c.passed}/{c.done} passed so far (of {c.total}): "
+                f"{c.text[:56]}{'…' if len(c.text) > 56 else ''}" for c in event.items))
+            return
+        if not isinstance(event, Stage):
+            return
+        text = event.text[0].upper() + event.text[1:]
+        p = event.progress
+        if p is None:
+            self.progress.setRange(0, 0)
+            self.stage.setText(text)
+            return
+        self.progress.setRange(0, max(p.total, 1))
+        self.progress.setValue(min(p.done, max(p.total, 1)))
+        self.progress.setFormat(f"{p.done}/{p.total}")
+        self.stage.setText(f"{text}: {progress_text(p)}")
+
+    def _finished(self, outcome: SuggestOutcome | None, source: str) -> None:
+        self.job = None
+        self._show_idle()
+        self.running_changed.emit(False)
+        if outcome is None:
+            self.message.setText("Cancelled before any suggestion was scored.")
+            return
+        self.outcome = outcome
+        self.show_outcome(outcome, source)
+        self.status.emit(outcome.message)
+        self.finished.emit(outcome)
+
+    def _failed(self, message: str) -> None:
+        self.job = None
+        self._show_idle()
+        self.running_changed.emit(False)
+        self.message.setText(f"✗ The suggestions stopped: {html.escape(message)}")
+        self.problem.emit("The suggestions stopped", message)
+
+    def _show_running(self) -> None:
+        self.go.setEnabled(False)
+        self.cancel_button.setEnabled(True)
+        self.progress.setVisible(True)
+        self.progress.setRange(0, 0)
+        self.stage.setVisible(True)
+        self.stage.setText("Starting…")
+        self.scores.setText("")
+        self.scores.setVisible(True)
+        self.running_changed.emit(True)
+
+    def _show_idle(self) -> None:
+        self.cancel_button.setEnabled(False)
+        self.progress.setVisible(False)
+        self.stage.setVisible(False)
+        self.scores.setVisible(False)
+        self.refresh_base()
+        if self.blocked_reason:
+            self.base_label.setText(self.blocked_reason)
+
+    # -- the outcome ---------------------------------------------------------------------
+    def show_outcome(self, outcome: SuggestOutcome | None, source: str = EDITOR) -> None:
+        """Cards for the survivors; the plain message when there are none."""
+        for card in self.cards:
+            card.setParent(None)
+            card.deleteLater()
+        self.cards = []
+        self.diagnosis_box.setVisible(bool(outcome and outcome.notes.get("diagnosis")))
+        if outcome is None:
+            self.message.setText("")
+            self.message.setVisible(False)
+            self.dropped_toggle.hide()
+            self.dropped.hide()
+            self.rule.setText(self._rule_template())
+            return
+        self.message.setVisible(True)
+        self.diagnosis.setText(outcome.notes.get("diagnosis", ""))
+        self.rule.setText(outcome.rule or self._rule_template())
+        self.message.setText(outcome_text(outcome, source))
+        n = len(outcome.dropped)
+        self.dropped_toggle.setVisible(bool(n))
+        self.dropped_toggle.setText(f"{n} repl{'y' if n == 1 else 'ies'} dropped")
+        self.dropped.setText("\n".join(f"• {why}" for why in outcome.dropped))
+        self._toggle_dropped(self.dropped_toggle.isChecked())
+        labels = self.labels()
+        for number, card in enumerate(outcome.cards, 1):
+            widget = SuggestionCard(number, card, outcome.base.text, outcome.base_score, source)
+            widget.set_origin(inputs_text(card, labels, source))
+            widget.keep_requested.connect(lambda w: self._decide(w, "kept", ""))
+            widget.set_aside_requested.connect(lambda w, why: self._decide(w, "set_aside", why))
+            widget.load_requested.connect(self._load)
+            self.card_layout.addWidget(widget)
+            self.cards.append(widget)
+
+    def _toggle_dropped(self, shown: bool) -> None:
+        self.dropped_toggle.setArrowType(Qt.ArrowType.DownArrow if shown
+                                         else Qt.ArrowType.RightArrow)
+        self.dropped.setVisible(shown and bool(self.outcome and self.outcome.dropped))
+
+    def _decide(self, widget: SuggestionCard, verdict: str, reason: str) -> Job | None:
+        state = self.state()
+        if state is None:
+            widget.decision_failed()
+            return None
+        project, card = state.project, widget.card
+
+        def done(entry):
+            widget.mark_decided(verdict, entry.id, entry.label)
+            self.decided.emit(entry)
+            word = "Kept" if verdict == "kept" else "Set aside"
+            self.status.emit(f"{word} suggestion {widget.number} on the shelf as {entry.label}")
+
+        def failed(message):
+            widget.decision_failed()
+            self.problem.emit("The decision was not saved", message)
+
+        act = operations.keep if verdict == "kept" else operations.set_aside
+        wording = Wording(card.text, card.placement)
+        parent = (card.inputs or {}).get("parent_id")
+        return self.runner.submit(
+            lambda ctx: act(project, wording=wording, parent_id=parent, origin=card.strategy,
+                            note=reason, inputs=card.inputs),
+            done=done, failed=failed, name="save the decision")
+
+    def _load(self, widget: SuggestionCard) -> None:
+        card = widget.card
+        parent = widget.entry_id if widget.decision == "kept" else \
+            (card.inputs or {}).get("parent_id")
+        self.load_requested.emit(Wording(card.text, card.placement), parent)
+        self.status.emit(f"Loaded suggestion {widget.number} into the editor (Ctrl+Z undoes)")
+
+    # -- internals -----------------------------------------------------------------------
+    def _entry(self, wording_id: int | None):
+        return next((r.entry for r in self.rows if r.entry.id == wording_id), None)
+
+    def _choice(self) -> tuple[Wording | None, int | None, str]:
+        """(base wording, other id for blend, why not) for the current controls."""
+        strategy = self.strategy.currentData()
+        selected = self._entry(self.selected_id())
+        if strategy == "blend":
+            other = self._entry(self.other.currentData())
+            if selected is None:
+                return None, None, "Blend needs two shelf entries: select the first on the shelf."
+            if other is None or other.id == selected.id:
+                return None, None, (f"Blend needs a second entry: choose one other than "
+                                    f"{selected.label} under “Blend with”.")
+            self._source = selected.label
+            return Wording(selected.text, selected.placement), other.id, ""
+        if self.from_shelf.isChecked():
+            if selected is None:
+                return None, None, "Select an entry on the shelf, or untick “Start from the " \
+                                   "selected shelf entry”."
+            self._source = selected.label
+            return Wording(selected.text, selected.placement), None, ""
+        wording = self.editor_wording()
+        if not wording.text.strip():
+            return None, None, "The editor is empty: write a wording first, or start from a " \
+                               "shelf entry."
+        self._source = EDITOR
+        return wording, None, ""
+
+    def _rule_template(self) -> str:
+        state = self.state()
+        qset = state.qset if state is not None else None
+        n = len(qset.tuning()) if qset is not None else 0
+        return early_rule(n) if n else EARLY_RULE.format(n="N")
