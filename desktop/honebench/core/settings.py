@@ -8,13 +8,9 @@ from __future__ import annotations
 
 from dataclasses import asdict, dataclass, fields, replace
 
-from .engines.base import Params
+from .engines.base import ANSWER_MODES, Params
 
 _DEFAULT = Params()
-_PARAM_FIELDS = {f.name for f in fields(Params)}
-# "score" ranks the allowed labels by likelihood, "generate" lets the model write an answer.
-ANSWER_MODES = tuple(dict.fromkeys(("score", "generate",
-                                    getattr(_DEFAULT, "answer_mode", "generate"))))
 
 
 @dataclass(frozen=True)
@@ -22,7 +18,7 @@ class ProjectSettings:
     max_tokens: int = _DEFAULT.max_tokens
     temperature: float = _DEFAULT.temperature
     seed: int = _DEFAULT.seed
-    answer_mode: str = getattr(_DEFAULT, "answer_mode", "generate")
+    answer_mode: str = _DEFAULT.answer_mode  # score: rank the allowed labels; generate: write
 
     def validate(self) -> "ProjectSettings":
         if not isinstance(self.max_tokens, int) or not 1 <= self.max_tokens <= 4096:
@@ -44,11 +40,8 @@ class ProjectSettings:
 
     def params(self) -> Params:
         """The engine parameters these settings stand for (part of every cache key)."""
-        kwargs = dict(max_tokens=self.max_tokens, temperature=float(self.temperature),
-                      seed=self.seed)
-        if "answer_mode" in _PARAM_FIELDS:
-            kwargs["answer_mode"] = self.answer_mode
-        return Params(**kwargs)
+        return Params(max_tokens=self.max_tokens, temperature=float(self.temperature),
+                      seed=self.seed, answer_mode=self.answer_mode)
 
     def as_dict(self) -> dict:
         return asdict(self)
