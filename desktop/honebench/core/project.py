@@ -10,6 +10,7 @@ from pathlib import Path
 
 from dataclasses import dataclass
 
+from .check_fit import check_for_new_set
 from .checks import CheckSpec
 from .records import ShelfEntry
 from .stats import Score, score
@@ -40,15 +41,17 @@ class ShelfRow:
 
 
 def read_question_set(set_path: str | Path, mapping: ColumnMapping | None = None, *,
-                      split_seed: int = 0, held_out_fraction: float = 0.3) -> QuestionSet:
-    """Load a set; a sample set's recipe gives its mapping when none is given.
-    Raises SetError naming the file, row and column; writes nothing."""
+                      split_seed: int = 0, held_out_fraction: float = 0.3,
+                      sheet: str | int | None = None, skip_rows: int = 0) -> QuestionSet:
+    """Load a set; a sample set's recipe gives its mapping when none is given. ``sheet``
+    and ``skip_rows``: see set_reading.read_table. Raises SetError naming the file, row and
+    column; writes nothing."""
     recipe = recipe_for(set_path)
     if mapping is None and recipe:
         mapping = ColumnMapping(inputs=tuple(recipe["inputs"]), expected=recipe["expected"],
                                 id=recipe.get("id", "id"))
     return load_set(set_path, mapping, split_seed=split_seed,
-                    held_out_fraction=held_out_fraction)
+                    held_out_fraction=held_out_fraction, sheet=sheet, skip_rows=skip_rows)
 
 
 class Project:
@@ -59,18 +62,24 @@ class Project:
 
     # -- the question set ----------------------------------------------------------------
     def import_set(self, set_path: str | Path, mapping: ColumnMapping | None = None, *,
-                   split_seed: int = 0, held_out_fraction: float = 0.3) -> int:
+                   split_seed: int = 0, held_out_fraction: float = 0.3,
+                   sheet: str | int | None = None, skip_rows: int = 0) -> int:
         """Read and validate a question set, then store it and make it current."""
         qset = read_question_set(set_path, mapping, split_seed=split_seed,
-                                 held_out_fraction=held_out_fraction)
+                                 held_out_fraction=held_out_fraction, sheet=sheet,
+                                 skip_rows=skip_rows)
         return self.add_set(qset)
 
     def add_set(self, qset: QuestionSet) -> int:
         """Store an already validated set and make it current. A sample set's recipe
         supplies the answer check, a starter wording and a title when none are set."""
         set_id = self.store.add_set(qset)
+        previous = self.store.setting("current_set")
         self.store.set_setting("current_set", set_id)
         recipe = recipe_for(qset.path)
+        if previous is not None and previous != set_id and self.store.setting("check"):
+            # labels belong to the set: guess them again rather than keep the last set's
+            self.set_check(check_for_new_set(self.check(), recipe and recipe["check"]))
         if recipe:
             if self.store.setting("check") is None:
                 self.store.set_setting("check", CheckSpec.from_dict(recipe["check"]).as_dict())
@@ -155,7 +164,7 @@ class Project:
         qset = self.store.get_set(run.set_id)
         check = CheckSpec.from_dict(run.check)
         return summarize(self.store.marks(run_id), qset.items, check.kind,
-                         check.labels or qset.labels())
+                         check.labels or qset.labels(), status=run.status, planned=run.n_items)
 
     def close(self) -> None:
         self.store.close()
