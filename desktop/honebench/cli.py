@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import sqlite3
 import sys
 import threading
 from pathlib import Path
@@ -35,7 +36,12 @@ def build_parser() -> argparse.ArgumentParser:
                    "(system message, before/after the question, start of the answer)")
     g.add_argument("--check", choices=CHECKS, help="the answer check")
     g.add_argument("--extraction", help="whole, first_line, after_marker, last_number, label")
-    g.add_argument("--labels", help="allowed labels, comma separated (label check)")
+    g.add_argument("--label", action="append", dest="each_label", metavar="LABEL",
+                   help="an allowed label (label check); repeat for each, commas are kept")
+    g.add_argument("--labels-file", type=Path, metavar="FILE",
+                   help="allowed labels, one per line (label check)")
+    g.add_argument("--labels", help="allowed labels, comma separated (label check); a label "
+                                    "that holds a comma needs --label or --labels-file")
     g.add_argument("--pattern", help="regular expression (pattern check)")
     g.add_argument("--json-field", help="dotted path into the answer's JSON (json_field check)")
     g.add_argument("--marker", help="text before the answer (after_marker extraction)")
@@ -43,6 +49,10 @@ def build_parser() -> argparse.ArgumentParser:
                    help="input field column (repeat for several)")
     g.add_argument("--expected", metavar="COLUMN", help="expected-answer column")
     g.add_argument("--id-column", metavar="COLUMN", help="item id column")
+    g.add_argument("--sheet", metavar="NAME|NUMBER", help="the Excel sheet holding the items, "
+                   "by name or number counted from 1 (default: the first)")
+    g.add_argument("--skip-rows", type=int, default=0, metavar="N",
+                   help="title rows above the column names to leave out (CSV, TSV, Excel)")
     g.add_argument("--split", choices=("tuning", "held_out", "all"), default="tuning")
     g.add_argument("--limit", type=int, help="grade only the first N items of the split")
     g.add_argument("--project", type=Path, help="project file to use (default: one per set "
@@ -86,6 +96,13 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("version", help="e.g. v3")
     _engine_args(c)
 
+    r = verbs.add_parser("resume", help="finish a grade run that was interrupted")
+    r.add_argument("project")
+    r.add_argument("run", nargs="?", type=int, help="run number (default: the latest "
+                   "interrupted run); the engine must be the one it was graded with")
+    _engine_args(r, generation=False)
+    r.add_argument("--json", action="store_true")
+
     cmp_ = verbs.add_parser("compare", help="two shelf versions on the same items")
     cmp_.add_argument("project")
     cmp_.add_argument("first")
@@ -106,10 +123,17 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
-def _engine_args(p: argparse.ArgumentParser) -> None:
+def _engine_args(p: argparse.ArgumentParser, generation: bool = True) -> None:
+    from .core.engines.remote import DEFAULT_TIMEOUT
+
     p.add_argument("--model", help="GGUF model file (default: bundled SmolLM2-135M-Instruct)")
     p.add_argument("--endpoint", help="OpenAI-protocol endpoint URL, e.g. http://127.0.0.1:8080/v1")
     p.add_argument("--endpoint-model", default="", help="model name to ask the endpoint for")
+    p.add_argument("--timeout", type=float, default=DEFAULT_TIMEOUT, metavar="SECONDS",
+                   help="endpoint only: how long each item may wait for an answer before it "
+                        f"gets an error mark and the run goes on (default {DEFAULT_TIMEOUT:g})")
+    if not generation:
+        return
     p.add_argument("--max-tokens", type=int, default=32)
     p.add_argument("--temperature", type=float, default=0.0)
     p.add_argument("--seed", type=int, default=0)
@@ -122,6 +146,13 @@ def main(argv: list[str] | None = None) -> int:
             return _gui(args)
         if args.verb == "grade":
             return _grade(args)
+        if args.verb == "resume":
+            from .resume_command import resume_verb
+            engine = open_engine(args)
+            try:
+                return resume_verb(args, engine)
+            finally:
+                engine.close()
         if args.verb in ("suggest", "hone", "confirm"):
             from . import commands
             engine = open_engine(args)
@@ -138,6 +169,10 @@ def main(argv: list[str] | None = None) -> int:
     except (SetError, EngineError, StoreError, ValueError, LookupError, OSError) as exc:
         print(f"honebench: {exc}", file=sys.stderr)
         return 2
+    except sqlite3.Error as exc:  # the store turns the usual ones into StoreError
+        print(f"honebench: the project file could not be used ({exc}); nothing more was "
+              "saved. Try again, or work on a copy of the file.", file=sys.stderr)
+        return 2
     return 0
 
 
@@ -145,11 +180,20 @@ def open_engine(args):
     """The engine the arguments ask for."""
     if getattr(args, "endpoint", None):
         from .core.engines.remote import EndpointEngine
-        engine = EndpointEngine(args.endpoint, args.endpoint_model)
+        engine = EndpointEngine(args.endpoint, args.endpoint_model, timeout=args.timeout)
         engine.check()
         return engine
     from .core.engines.local import LocalEngine
     return LocalEngine(args.model)
+
+
+def preflight_engine(args) -> None:
+    """Check the model file or endpoint the arguments name, without loading a model."""
+    if getattr(args, "endpoint", None):
+        open_engine(args).close()
+    elif getattr(args, "model", None):
+        from .core.engines.model_files import check_model_file
+        check_model_file(args.model)
 
 
 def _grade(args) -> int:
@@ -157,15 +201,20 @@ def _grade(args) -> int:
     from .core.project import Project, default_project_path, read_question_set
 
     source = Path(args.source)
+    reading = {"sheet": args.sheet, "skip_rows": args.skip_rows}
+    preflight_engine(args)  # a bad model file or endpoint is refused before anything is saved
     if source.suffix == PROJECT_SUFFIX:
         if not source.exists():
             raise ValueError(f"project file {source} does not exist")
+        if args.sheet is not None or args.skip_rows:
+            raise ValueError("--sheet and --skip-rows choose what to read from a question set "
+                             "file; a project file already holds its items")
         project = Project(source)
     else:
         mapping = None
         if args.inputs or args.expected or args.id_column:
             from .core.sets import ColumnMapping, guess_mapping, read_table
-            columns = list(read_table(source).columns)
+            columns = list(read_table(source, **reading).columns)
             try:
                 guessed = guess_mapping(columns)
             except SetError:
@@ -173,11 +222,17 @@ def _grade(args) -> int:
             mapping = ColumnMapping(inputs=tuple(args.inputs or guessed.inputs),
                                     expected=args.expected or guessed.expected,
                                     id=args.id_column or guessed.id, split=guessed.split)
-        qset = read_question_set(source, mapping)  # validated before any file is written
+        qset = read_question_set(source, mapping, **reading)  # validated before any write
         project = Project(args.project or default_project_path(source))
         project.add_set(qset)
+    from .core.resume import interrupted_note
+    note = interrupted_note(project.store, project.path)
+    if note:
+        print(f"honebench: {note}", file=sys.stderr)
     set_id, qset = project.current_set()
     check = _check_from_args(project.check(), args)
+    from .core.check_fit import check_fits_set
+    check_fits_set(check, qset)  # refused before the check is saved
     project.set_check(check)
     draft = project.draft()
     text = args.wording_file.read_text(encoding="utf-8") if args.wording_file else args.wording
@@ -239,8 +294,12 @@ def _check_from_args(saved: CheckSpec, args) -> CheckSpec:
         value = getattr(args, name, None)
         if value is not None:
             d[name] = value
-    if args.labels:
-        d["labels"] = [x.strip() for x in args.labels.split(",") if x.strip()]
+    from .core.check_fit import collect_labels
+    labels, warnings = collect_labels(args.labels, args.each_label or (), args.labels_file)
+    for warning in warnings:
+        print(f"honebench: warning: {warning}", file=sys.stderr)
+    if labels is not None:
+        d["labels"] = labels
     return CheckSpec.from_dict(d)
 
 
