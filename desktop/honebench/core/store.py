@@ -169,11 +169,17 @@ class Store:
         return default if row is None else json.loads(row[0])
 
     def set_setting(self, key: str, value) -> None:
+        """Save a setting; an unchanged value is not written again (so merely opening a
+        project and choosing what it already holds leaves the file as it was)."""
+        text = json.dumps(value)
+        row = self._conn().execute("SELECT value FROM settings WHERE key=?", (key,)).fetchone()
+        if row is not None and row[0] == text:
+            return
         with self._tx() as c:
             c.execute(
                 "INSERT INTO settings(key, value) VALUES(?, ?) "
                 "ON CONFLICT(key) DO UPDATE SET value=excluded.value",
-                (key, json.dumps(value)),
+                (key, text),
             )
 
     # -- question sets -------------------------------------------------------------------
