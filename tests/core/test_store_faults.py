@@ -212,3 +212,36 @@ def test_read_only_project_does_not_mark_but_lists_a_dead_run(tmp_path, routing)
     assert [(u.run.id, u.run.status) for u in unfinished_runs(store)] == [(run, "interrupted")]
     store.close()
     assert digest(path) == before and _status(path, run) == "running"
+
+
+def test_read_only_project_still_compares_and_reports(tmp_path, sample_dir):
+    """Reading needs no writing: compare of existing runs and the report work read-only."""
+    from honebench.core.compare import compare_entries
+    from honebench.core.grading import Grader
+    from honebench.core.project import Project
+    from honebench.core.report import report_html
+    from honebench.core.wording import Wording
+    from tests.fakes import FakeEngine
+
+    path = tmp_path / "desk.hone"
+    project = Project(path)
+    set_id = project.import_set(sample_dir / "passenger_desk_routing.csv")
+    _, qset = project.current_set()
+    entries = []
+    for text, answer in (("Route it.", "refund"), ("Route it well.", "timetable")):
+        entry = project.keep(Wording(text, "before"))
+        Grader(project.store, FakeEngine(lambda r, a=answer: a)).grade(
+            set_id=set_id, qset=qset, wording=Wording(text, "before"), check=project.check(),
+            wording_id=entry.id)
+        entries.append(entry)
+    project.close()
+    os.chmod(path, 0o444)
+    before = digest(path)
+    project = Project(path)
+    comparison = compare_entries(project.store, set_id, *entries, split="tuning")
+    assert comparison.fixed and comparison.broken  # refund items broken, timetable fixed
+    assert "v2" in report_html(project)
+    with pytest.raises(StoreError, match="read-only"):
+        project.keep(Wording("A third wording.", "before"))
+    project.close()
+    assert digest(path) == before
