@@ -11,6 +11,7 @@ A writer on another host cannot be checked from here; its runs are left alone.
 """
 from __future__ import annotations
 
+import json
 import os
 import socket
 import sys
@@ -86,3 +87,16 @@ def may_be_running(writer: dict | None) -> bool:
         return False
     recorded = writer.get("since")
     return not isinstance(recorded, int) or recorded == since
+
+
+def stale_run_ids(rows) -> list[int]:
+    """Ids of the (id, params JSON) rows of running runs whose writer is certainly gone."""
+    stale = []
+    for run_id, params in rows:
+        try:
+            writer = json.loads(params).get("writer")
+        except (TypeError, ValueError, AttributeError):
+            writer = None
+        if not may_be_running(writer):
+            stale.append(run_id)
+    return stale

@@ -15,7 +15,7 @@ from pathlib import Path
 from typing import Iterable
 
 from .records import Mark, RunInfo, ShelfEntry
-from .run_writers import may_be_running, this_writer
+from .run_writers import stale_run_ids, this_writer
 from .store_files import READ_ONLY_HINT, StoreError, Transaction, connect, is_read_only
 from .sets import ColumnMapping, Item, QuestionSet
 
@@ -305,12 +305,10 @@ class Store:
             c.execute("UPDATE runs SET status=?, finished_at=? WHERE id=?", (status, now(), run_id))
 
     def mark_interrupted_runs(self) -> list[int]:
-        """Mark "interrupted" every run still saved as "running" whose writer process has
-        ended (see run_writers.may_be_running); returns their ids. Runs another live
-        process is writing are left alone."""
-        stale = [r["id"] for r in self._conn().execute(
-            "SELECT id, params FROM runs WHERE status='running' ORDER BY id")
-            if not may_be_running(_json_or_empty(r["params"]).get("writer"))]
+        """Mark "interrupted" every run saved as "running" whose writer has ended (see
+        run_writers); returns their ids. Runs a live process is writing are left alone."""
+        stale = stale_run_ids(self._conn().execute(
+            "SELECT id, params FROM runs WHERE status='running' ORDER BY id"))
         if stale:
             with self._tx() as c:
                 c.executemany("UPDATE runs SET status='interrupted', finished_at=? "
@@ -391,14 +389,6 @@ class Store:
 
 def _statements(script: str) -> Iterable[str]:
     return [s.strip() for s in script.split(";") if s.strip()]
-
-
-def _json_or_empty(text: str) -> dict:
-    try:
-        value = json.loads(text)
-    except (TypeError, ValueError):
-        return {}
-    return value if isinstance(value, dict) else {}
 
 
 def _entry(r: sqlite3.Row) -> ShelfEntry:
