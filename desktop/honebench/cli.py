@@ -6,6 +6,7 @@ With no verb, honebench opens the desktop window.
 from __future__ import annotations
 
 import argparse
+import sqlite3
 import sys
 from pathlib import Path
 
@@ -32,7 +33,12 @@ def build_parser() -> argparse.ArgumentParser:
                    "(system message, before/after the question, start of the answer)")
     g.add_argument("--check", choices=CHECKS, help="the answer check")
     g.add_argument("--extraction", help="whole, first_line, after_marker, last_number, label")
-    g.add_argument("--labels", help="allowed labels, comma separated (label check)")
+    g.add_argument("--label", action="append", dest="each_label", metavar="LABEL",
+                   help="an allowed label (label check); repeat for each, commas are kept")
+    g.add_argument("--labels-file", type=Path, metavar="FILE",
+                   help="allowed labels, one per line (label check)")
+    g.add_argument("--labels", help="allowed labels, comma separated (label check); a label "
+                                    "that holds a comma needs --label or --labels-file")
     g.add_argument("--pattern", help="regular expression (pattern check)")
     g.add_argument("--json-field", help="dotted path into the answer's JSON (json_field check)")
     g.add_argument("--marker", help="text before the answer (after_marker extraction)")
@@ -40,6 +46,10 @@ def build_parser() -> argparse.ArgumentParser:
                    help="input field column (repeat for several)")
     g.add_argument("--expected", metavar="COLUMN", help="expected-answer column")
     g.add_argument("--id-column", metavar="COLUMN", help="item id column")
+    g.add_argument("--sheet", metavar="NAME|NUMBER", help="the Excel sheet holding the items, "
+                   "by name or number counted from 1 (default: the first)")
+    g.add_argument("--skip-rows", type=int, default=0, metavar="N",
+                   help="title rows above the column names to leave out (CSV, TSV, Excel)")
     g.add_argument("--split", choices=("tuning", "held_out", "all"), default="tuning")
     g.add_argument("--limit", type=int, help="grade only the first N items of the split")
     g.add_argument("--project", help=f"project file to use ({PROJECT_SUFFIX}, added when "
@@ -83,6 +93,13 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("version", help="e.g. v3")
     _engine_args(c)
 
+    r = verbs.add_parser("resume", help="finish a grade run that was interrupted")
+    r.add_argument("project")
+    r.add_argument("run", nargs="?", type=int, help="run number (default: the latest "
+                   "interrupted run); the engine must be the one it was graded with")
+    _engine_args(r, generation=False)
+    r.add_argument("--json", action="store_true")
+
     cmp_ = verbs.add_parser("compare", help="two shelf versions on the same items")
     cmp_.add_argument("project")
     cmp_.add_argument("first")
@@ -104,10 +121,17 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
-def _engine_args(p: argparse.ArgumentParser) -> None:
+def _engine_args(p: argparse.ArgumentParser, generation: bool = True) -> None:
+    from .core.engines.remote import DEFAULT_TIMEOUT
+
     p.add_argument("--model", help="GGUF model file (default: bundled SmolLM2-135M-Instruct)")
     p.add_argument("--endpoint", help="OpenAI-protocol endpoint URL, e.g. http://127.0.0.1:8080/v1")
     p.add_argument("--endpoint-model", default="", help="model name to ask the endpoint for")
+    p.add_argument("--timeout", type=float, default=DEFAULT_TIMEOUT, metavar="SECONDS",
+                   help="endpoint only: how long each item may wait for an answer before it "
+                        f"gets an error mark and the run goes on (default {DEFAULT_TIMEOUT:g})")
+    if not generation:
+        return
     # None = not given: the project's settings apply; a value overrides them for this run only
     p.add_argument("--max-tokens", type=int, help="answer length limit (default: the "
                    f"project's setting, at first {ProjectSettings().max_tokens})")
@@ -131,6 +155,10 @@ def main(argv: list[str] | None = None) -> int:
     except (SetError, EngineError, StoreError, ValueError, LookupError, OSError) as exc:
         print(f"honebench: {exc}", file=sys.stderr)
         return 2
+    except sqlite3.Error as exc:  # the store turns the usual ones into StoreError
+        print(f"honebench: the project file could not be used ({exc}); nothing more was "
+              "saved. Try again, or work on a copy of the file.", file=sys.stderr)
+        return 2
     except KeyboardInterrupt:
         print("\nhonebench: interrupted; every finished mark is saved in the project.",
               file=sys.stderr)
@@ -141,11 +169,20 @@ def open_engine(args):
     """The engine the arguments ask for."""
     if getattr(args, "endpoint", None):
         from .core.engines.remote import EndpointEngine
-        engine = EndpointEngine(args.endpoint, args.endpoint_model)
+        engine = EndpointEngine(args.endpoint, args.endpoint_model, timeout=args.timeout)
         engine.check()
         return engine
     from .core.engines.local import LocalEngine
     return LocalEngine(args.model)
+
+
+def preflight_engine(args) -> None:
+    """Check the model file or endpoint the arguments name, without loading a model."""
+    if getattr(args, "endpoint", None):
+        open_engine(args).close()
+    elif getattr(args, "model", None):
+        from .core.engines.model_files import check_model_file
+        check_model_file(args.model)
 
 
 def _gui(args) -> int:

@@ -78,9 +78,17 @@ def _with_engine(args, work):
 
 # -- grade --------------------------------------------------------------------------------
 def grade_verb(args) -> int:
+    from .cli import preflight_engine
+    from .core.check_fit import check_fits_set
+
+    preflight_engine(args)  # a bad model file or endpoint is refused before anything is saved
     project = _grade_project(args)
     try:
+        note = project.interrupted_note()
+        if note:
+            print(f"honebench: {note}", file=sys.stderr)
         check = _check_from_args(project.check(), args)
+        check_fits_set(check, project.current_set()[1])  # refused before the check is saved
         project.set_check(check)
         draft = project.draft()
         text = (args.wording_file.read_text(encoding="utf-8") if args.wording_file
@@ -105,11 +113,15 @@ def _grade_project(args) -> Project:
     is created, and a --project path with the wrong extension is refused first."""
     source = Path(args.source)
     if source.suffix == PROJECT_SUFFIX:
+        if args.sheet is not None or args.skip_rows:
+            raise ValueError("--sheet and --skip-rows choose what to read from a question set "
+                             "file; a project file already holds its items")
         return open_project(source)
     target = project_file(args.project) if args.project else default_project_path(source)
+    reading = {"sheet": args.sheet, "skip_rows": args.skip_rows}
     mapping = column_mapping(source, inputs=args.inputs, expected=args.expected,
-                             id=args.id_column)
-    qset = read_question_set(source, mapping)
+                             id=args.id_column, **reading)
+    qset = read_question_set(source, mapping, **reading)
     project = Project.open(target, create=True).value
     project.import_set(qset)
     return project
@@ -149,8 +161,13 @@ def _check_from_args(saved: CheckSpec, args) -> CheckSpec:
         value = getattr(args, name, None)
         if value is not None:
             d[name] = value
-    if args.labels:
-        d["labels"] = [x.strip() for x in args.labels.split(",") if x.strip()]
+    from .core.check_fit import collect_labels
+
+    labels, warnings = collect_labels(args.labels, args.each_label or (), args.labels_file)
+    for warning in warnings:
+        print(f"honebench: warning: {warning}", file=sys.stderr)
+    if labels is not None:
+        d["labels"] = labels
     return CheckSpec.from_dict(d)
 
 
@@ -284,6 +301,31 @@ def export_verb(args) -> int:
             print(f"marks: {project.export_marks(args.csv).value}")
         if args.text:
             print(f"wording: {project.export_wording(args.text, chosen=chosen).value}")
+    finally:
+        project.close()
+    return 0
+
+
+# -- resume -------------------------------------------------------------------------------
+def resume_verb(args) -> int:
+    project = open_project(args.project)
+    try:
+        done = _with_engine(args, lambda engine: project.resume(
+            engine, args.run, on_event=ProgressPrinter(quiet=args.json),
+            cancel=threading.Event()))
+        outcome = done.value
+        summary = project.summary(outcome.run_id)
+        if args.json:
+            out = summary.as_dict()
+            out.update(run_id=outcome.run_id, status=outcome.status,
+                       model_calls=outcome.model_calls,
+                       marks=[m.as_dict() for m in outcome.marks])
+            print(json.dumps(out, indent=2, ensure_ascii=False))
+        else:
+            print(f"resumed as run {outcome.run_id}: {outcome.status}, {outcome.model_calls} "
+                  "model calls, the other answers from the cache")
+            for line in summary.lines():
+                print(line)
     finally:
         project.close()
     return 0

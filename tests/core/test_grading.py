@@ -184,8 +184,8 @@ def test_generate_mode_and_other_checks_generate(project):
     assert engine.scored == 0 and engine.calls == len(outcome.marks)
     assert outcome.marks[0].confidence is None
     assert project.store.run(outcome.run_id).params["answer_mode"] == "generate"
-    # a number check in score mode generates, and is recorded as such
-    other = _grade(project, engine, check=CheckSpec(kind="number"))
+    # an exact check in score mode generates, and is recorded as such
+    other = _grade(project, engine, check=CheckSpec(kind="exact"))
     assert project.store.run(other.run_id).params["answer_mode"] == "generate"
 
 

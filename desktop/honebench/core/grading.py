@@ -20,6 +20,7 @@ from dataclasses import dataclass, replace
 from typing import Callable, Sequence
 
 from .answer_stops import stop_rule
+from .check_fit import check_fits_set
 from .checks import CheckSpec, judge
 from .engines.base import Engine, Params, Request, Result
 from .events import Progress
@@ -112,7 +113,10 @@ class Grader:
                    on_mark: Callable[[int, Mark, Progress], None] | None = None,
                    cancel: threading.Event | None = None) -> list[RunOutcome]:
         """Several grade runs fed to the engine as one stream, so it never waits between
-        them. ``on_mark`` gets the plan's index, the mark and the progress over all plans."""
+        them. ``on_mark`` gets the plan's index, the mark and the progress over all plans.
+        Raises ValueError, before anything is saved, when the check cannot judge this set's
+        expected answers (see check_fit.check_fits_set)."""
+        check_fits_set(check, qset)
         if not check.labels and check.kind == "label":
             check = replace(check, labels=tuple(qset.labels()))
         fingerprint = self.engine.fingerprint()

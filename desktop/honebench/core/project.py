@@ -13,6 +13,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from .changes import EVERYTHING, Changes, Done
+from .check_fit import check_for_new_set
 from .checks import CheckSpec
 from .compare import latest_run
 from .operations.exports import ExportOps
@@ -37,26 +38,29 @@ __all__ = ["Project", "ShelfRow", "RunView", "SPLIT_WORDS", "ProjectSettings", "
 
 
 def read_question_set(set_path: str | Path, mapping: ColumnMapping | None = None, *,
-                      split_seed: int = 0, held_out_fraction: float = 0.3) -> QuestionSet:
-    """Load a set; a sample set's recipe gives its mapping when none is given.
-    Raises SetError naming the file, row and column; writes nothing."""
+                      split_seed: int = 0, held_out_fraction: float = 0.3,
+                      sheet: str | int | None = None, skip_rows: int = 0) -> QuestionSet:
+    """Load a set; a sample set's recipe gives its mapping when none is given. ``sheet``
+    and ``skip_rows``: see set_reading.read_table. Raises SetError naming the file, row and
+    column; writes nothing."""
     recipe = recipe_for(set_path)
     if mapping is None and recipe:
         mapping = ColumnMapping(inputs=tuple(recipe["inputs"]), expected=recipe["expected"],
                                 id=recipe.get("id", "id"))
     return load_set(set_path, mapping, split_seed=split_seed,
-                    held_out_fraction=held_out_fraction)
+                    held_out_fraction=held_out_fraction, sheet=sheet, skip_rows=skip_rows)
 
 
 def column_mapping(set_path: str | Path, *, inputs=None, expected: str | None = None,
-                   id: str | None = None) -> ColumnMapping | None:
+                   id: str | None = None, sheet: str | int | None = None,
+                   skip_rows: int = 0) -> ColumnMapping | None:
     """A mapping from the columns the user named, the rest guessed from the file's header;
     None when nothing was named (the recipe or the guess then decides)."""
     if not (inputs or expected or id):
         return None
     from .sets import SetError
 
-    columns = list(read_table(set_path).columns)
+    columns = list(read_table(set_path, sheet=sheet, skip_rows=skip_rows).columns)
     try:
         guessed = guess_mapping(columns)
     except SetError:
@@ -115,13 +119,17 @@ class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
     # -- the question set ----------------------------------------------------------------
     def import_set(self, source: str | Path | QuestionSet,
                    mapping: ColumnMapping | None = None, *, check: CheckSpec | None = None,
-                   split_seed: int = 0, held_out_fraction: float = 0.3) -> Done[int]:
+                   split_seed: int = 0, held_out_fraction: float = 0.3,
+                   sheet: str | int | None = None, skip_rows: int = 0) -> Done[int]:
         """Read and validate a question set (or take one already read), store it and make
-        it current; ``check`` becomes the answer check. Nothing is written if it is bad."""
+        it current; ``check`` becomes the answer check. ``sheet`` and ``skip_rows`` choose
+        what to read from a workbook or a file with title rows. Nothing is written if it is
+        bad."""
         if check is not None:
             check.validate()
         qset = source if isinstance(source, QuestionSet) else read_question_set(
-            source, mapping, split_seed=split_seed, held_out_fraction=held_out_fraction)
+            source, mapping, split_seed=split_seed, held_out_fraction=held_out_fraction,
+            sheet=sheet, skip_rows=skip_rows)
         set_id = self.add_set(qset)
         if check is not None:
             self.set_check(check)
@@ -131,8 +139,12 @@ class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
         """Store an already validated set and make it current. A sample set's recipe
         supplies the answer check, a starter wording and a title when none are set."""
         set_id = self.store.add_set(qset)
+        previous = self.store.setting("current_set")
         self.store.set_setting("current_set", set_id)
         recipe = recipe_for(qset.path)
+        if previous is not None and previous != set_id and self.store.setting("check"):
+            # labels belong to the set: guess them again rather than keep the last set's
+            self.set_check(check_for_new_set(self.check(), recipe and recipe["check"]))
         if recipe:
             if self.store.setting("check") is None:
                 self.store.set_setting("check", CheckSpec.from_dict(recipe["check"]).as_dict())
@@ -237,7 +249,8 @@ class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
         qset = self.store.get_set(run.set_id)
         check = CheckSpec.from_dict(run.check)
         return summarize(self.store.marks(run_id), qset.items, check.kind,
-                         check.labels or qset.labels(), wall_seconds=run.wall_seconds)
+                         check.labels or qset.labels(), wall_seconds=run.wall_seconds,
+                         status=run.status, planned=run.n_items)
 
     def run_view(self, run_id: int) -> RunView:
         return RunView(self.store.run(run_id), self.store.marks(run_id), self.summary(run_id))

@@ -180,6 +180,20 @@ def _shelf(rows: list[ShelfRow], found: ShelfAssessment) -> str:
     return f"<table>{head}{''.join(body)}</table>" + "".join(extra)
 
 
+def _unfinished(project: Project) -> str:
+    """A warning listing the interrupted runs, whose marks count in no score."""
+    from .resume import unfinished_runs
+
+    found = unfinished_runs(project.store)
+    if not found:
+        return ""
+    listed = "".join(f"<li>{escape(u.text())}</li>" for u in found)
+    return (f'<p class="warn">Interrupted grade runs (their marks are kept but count in no '
+            f"score above):</p><ul>{listed}</ul><p class=\"muted\">Resume one with "
+            f"<code>honebench resume {escape(project.path.name)} RUN</code> or from the "
+            "window; answers it already received come from the cache.</p>")
+
+
 def _chosen(choice: Choice, rows: list[ShelfRow]) -> str:
     if choice.entry is None:
         return f"<p>{escape(choice.rule)}</p>"
@@ -269,7 +283,7 @@ def report_html(project: Project, *, chosen_id: int | None = None) -> str:
         _section("task", "Task", _task(project)),
         _section("set", "Question set", _set(qset)),
         _section("engine", "Engine", _engine(project, used)),
-        _section("shelf", "Shelf", _shelf(rows, found)),
+        _section("shelf", "Shelf", _shelf(rows, found) + _unfinished(project)),
         _section("chosen", "Chosen wording", _chosen(choice, rows)),
         _section("comparison", "Chosen against the first version", comparison),
         _section("chart", "Progress chart", chart),

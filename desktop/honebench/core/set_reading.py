@@ -20,6 +20,8 @@ from typing import NamedTuple
 import numpy as np
 import pandas as pd
 
+from .sheets import check_reading_options, read_sheet
+
 TEXT_DELIMITED = {".csv": ",", ".tsv": "\t", ".tab": "\t", ".txt": None}
 JSON_LINES = (".jsonl", ".ndjson")
 SUPPORTED = (".csv", ".tsv", ".tab", ".txt", ".jsonl", ".ndjson", ".json", ".parquet", ".xlsx")
@@ -71,17 +73,23 @@ def quote(name: object) -> str:
     return repr(text if len(text) <= 40 else text[:37] + "...")
 
 
-def read_table(path) -> pd.DataFrame:
-    """The file's rows as a table of text, with blank rows left out. Raises SetError."""
+def read_table(path, *, sheet: str | int | None = None, skip_rows: int = 0) -> pd.DataFrame:
+    """The file's rows as a table of text, with blank rows left out. Raises SetError.
+
+    ``sheet`` (Excel only): a sheet name, or its number counted from 1; the first sheet
+    by default. ``skip_rows`` (CSV, TSV, text and Excel): title rows above the column names
+    to leave out, counted from the top of the file or sheet, blank rows included.
+    """
     path = os.fspath(path)
     ext = os.path.splitext(path)[1].lower()
     if ext not in SUPPORTED:
         raise SetError(path, [Problem(
             f"Files ending in {quote(ext or '(nothing)')} are not read. Save the question set "
             f"as one of: {', '.join(SUPPORTED)}.")])
+    check_reading_options(path, ext, sheet, skip_rows, TEXT_DELIMITED)
     try:
         if ext in (".parquet", ".xlsx"):
-            table = _read_binary(path, ext)
+            table = _read_binary(path, ext, sheet, skip_rows)
         else:
             with open(path, "rb") as f:
                 raw = f.read()
@@ -94,14 +102,20 @@ def read_table(path) -> pd.DataFrame:
             elif ext in JSON_LINES:
                 table = _from_records(path, _jsonl_records(path, text), word="line")
             else:
-                table = _read_delimited(path, text, ext)
+                table = _read_delimited(path, text, ext, skip_rows)
     except OSError as e:
         raise SetError(path, [Problem(f"The file cannot be opened ({e.strerror or e}). "
                                       "Check that it exists and that you may read it.")]) from e
     if table.empty:
         raise SetError(path, [Problem(
-            "The file has column names but no items. Add one item per row below the header.")])
+            "The file has column names but no items. Add one item per row below the header."
+            + _sheet_note(table))])
     return table
+
+
+def _sheet_note(table: pd.DataFrame) -> str:
+    note = table.attrs.get("sheet_note")
+    return f" {note}" if note else ""
 
 
 def _delimiter(ext: str, header_line: str) -> str:
@@ -117,9 +131,18 @@ def _delimiter(ext: str, header_line: str) -> str:
     return fixed or "\t"
 
 
-def _read_delimited(path: str, text: str, ext: str) -> pd.DataFrame:
+def _read_delimited(path: str, text: str, ext: str, skip_rows: int = 0) -> pd.DataFrame:
+    lines_skipped = 0
+    for _ in range(skip_rows):  # title rows: whole lines, as they are in the file
+        m = re.search(r"\r\n|\r|\n", text)
+        text = text[m.end():] if m else ""
+        lines_skipped += 1
+    if not text.strip():
+        raise SetError(path, [Problem(
+            f"Nothing is left after skipping the first {skip_rows} rows. Skip fewer rows: the "
+            "column names must come right after the rows skipped.")])
     body = text.lstrip("\r\n")
-    skipped = len(re.findall(r"\r\n|\r|\n", text[: len(text) - len(body)]))
+    skipped = lines_skipped + len(re.findall(r"\r\n|\r|\n", text[: len(text) - len(body)]))
     sep = _delimiter(ext, body.splitlines()[0] if body else "")
     try:
         # Quoting follows RFC 4180 section 2: a quoted field may hold the delimiter, line
@@ -200,18 +223,33 @@ def _finish(path: str, body: pd.DataFrame, header: list[str], word: str) -> pd.D
 
 
 def _decode(path: str, raw: bytes, ext: str) -> str:
+    text = None
     if raw.startswith((b"\xff\xfe", b"\xfe\xff")):
         try:
-            return raw.decode("utf-16")
+            text = raw.decode("utf-16")
         except UnicodeDecodeError:
             pass
     try:
-        return raw.decode("utf-8-sig")
+        text = raw.decode("utf-8-sig") if text is None else text
     except UnicodeDecodeError as e:
-        raise SetError(path, [_decode_problem(raw, e.start, ext)]) from None
+        controls = sum(raw.count(b) for b in range(32) if b not in (9, 10, 13))
+        if raw.count(0) * 4 <= len(raw):  # mostly NULs: binary or UTF-16, said below
+            raise SetError(path, [_decode_problem(raw, e.start, ext, controls * 10 > len(raw))]
+                           ) from None
+        text = raw.decode("latin-1")
+    if "\x00" in text:  # text files hold no NUL: UTF-16 without a byte-order mark, or binary
+        line = text.count("\n", 0, text.find("\x00")) + 1
+        odd, even = raw[1::2].count(0), raw[0::2].count(0)
+        what = ("looks like UTF-16 text without a byte-order mark" if max(odd, even) * 3 > len(raw)
+                and min(odd, even) * 20 < len(raw) else "is probably not a text file, or is damaged")
+        raise SetError(path, [Problem(
+            f"The file holds NUL characters (code 0), first on line {line}, which text files "
+            f"never contain: it {what}. Save it as UTF-8 text (in a spreadsheet, choose "
+            "'CSV UTF-8') and load it again.", line)])
+    return text
 
 
-def _decode_problem(raw: bytes, offset: int, ext: str) -> Problem:
+def _decode_problem(raw: bytes, offset: int, ext: str, binary: bool = False) -> Problem:
     """Where the first byte that is not UTF-8 sits: byte offset, line, and row/column if found."""
     line = raw.count(b"\n", 0, offset) + 1
     row, column = (line, None) if ext in JSON_LINES else (None, None)
@@ -230,10 +268,11 @@ def _decode_problem(raw: bytes, offset: int, ext: str) -> Problem:
     where = f"row {row}" if row and ext in TEXT_DELIMITED else f"line {line}"
     if column:
         where += f", column {quote(column)}"
+    cause = ("It holds many control bytes, so it is probably not a text file at all" if binary
+             else "It was probably saved in another encoding such as Windows-1252")
     return Problem(
-        f"The file is not UTF-8 text: byte {offset:,} ({where}) cannot be read. It was probably "
-        "saved in another encoding such as Windows-1252. Save it as UTF-8 (in a spreadsheet, "
-        "choose 'CSV UTF-8') and load it again.", row, column)
+        f"The file is not UTF-8 text: byte {offset:,} ({where}) cannot be read. {cause}. Save "
+        "it as UTF-8 (in a spreadsheet, choose 'CSV UTF-8') and load it again.", row, column)
 
 
 def _json_records(path: str, text: str) -> list[tuple[int, object]]:
@@ -299,7 +338,7 @@ def _from_records(path: str, records: list[tuple[int, object]], word: str) -> pd
     return _finish(path, body, [h.strip().lstrip("\ufeff").strip() for h in header], word)
 
 
-def _read_binary(path: str, ext: str) -> pd.DataFrame:
+def _read_binary(path: str, ext: str, sheet=None, skip_rows: int = 0) -> pd.DataFrame:
     kind = "Parquet" if ext == ".parquet" else "Excel (.xlsx)"
     try:
         if ext == ".parquet":
@@ -309,8 +348,7 @@ def _read_binary(path: str, ext: str) -> pd.DataFrame:
             records = [(i, dict(zip(frame.columns, values)))
                        for i, values in enumerate(frame.itertuples(index=False, name=None), 1)]
             return _from_records(path, records, word="record")
-        grid = pd.read_excel(path, sheet_name=0, header=None, dtype=object, na_filter=False,
-                             engine="openpyxl")
+        grid, choice = read_sheet(path, sheet, skip_rows)
     except SetError:
         raise
     except Exception as e:  # the readers raise many types for a damaged file
@@ -319,12 +357,24 @@ def _read_binary(path: str, ext: str) -> pd.DataFrame:
         raise SetError(path, [Problem(
             f"The file cannot be read as {kind} ({type(e).__name__}: {e}). Check that it is a "
             f"{kind} file, or save the question set as CSV UTF-8.")]) from e
+    if isinstance(choice, str):
+        raise SetError(path, [Problem(choice + " Choose one with --sheet NAME (or its number, "
+                                      "counted from 1) or in the column mapping.")])
+    note = choice.note()
     if grid.empty:
-        raise SetError(path, [Problem("The first sheet is empty. Put the column names in "
-                                      "the first row and one item per row.")])
+        skipped = f" once the first {skip_rows} rows are skipped" if skip_rows else ""
+        raise SetError(path, [Problem(f"The sheet is empty{skipped}. Put the column names in "
+                                      f"the first row and one item per row. {note}")])
     grid = grid.map(_cell_text)
-    grid.index = grid.index + 1
-    return _with_header(path, grid, word="row")
+    try:
+        table = _with_header(path, grid, word="row")
+    except SetError as e:
+        raise SetError(path, [Problem(f"{p.text} {note}", p.row, p.column)
+                              for p in e._found]) from None
+    table.attrs["sheet"] = choice.name
+    if len(choice.names) > 1 or table.empty:
+        table.attrs["sheet_note"] = note
+    return table
 
 
 def _cell_text(value: object) -> str:

@@ -327,19 +327,27 @@ def _guess_for(path: str, table: pd.DataFrame) -> ColumnMapping:
     try:
         return guess_mapping(list(table.columns))
     except SetError as e:
-        raise e.for_file(path) from None
+        notes = [table.attrs.get("sheet_note")]  # a workbook: the items may be elsewhere
+        if any(re.fullmatch(r"column \d+", str(c)) for c in table.columns):
+            notes.append("If the first row read is a title above the column names, leave it "
+                         "out with --skip-rows (or in the column mapping).")
+        extra = " ".join(n for n in notes if n)
+        raise SetError(path, [Problem(f"{p.text} {extra}".strip(), p.row, p.column)
+                              for p in e._found]) from None
 
 
 def load_set(path, mapping: ColumnMapping | None = None, *, split_seed: int = 0,
-             held_out_fraction: float = 0.3, max_cell_chars: int = 100_000) -> QuestionSet:
+             held_out_fraction: float = 0.3, max_cell_chars: int = 100_000,
+             sheet: str | int | None = None, skip_rows: int = 0) -> QuestionSet:
     """Read, check and split a question set. With no mapping, one is guessed from the
-    column names. Raises SetError listing every problem found."""
+    column names. ``sheet`` and ``skip_rows``: see read_table. Raises SetError listing
+    every problem found."""
     if not 0.0 <= held_out_fraction <= 1.0:
         raise ValueError(f"held_out_fraction must be between 0 and 1, not {held_out_fraction}")
     if max_cell_chars < 1:
         raise ValueError(f"max_cell_chars must be at least 1, not {max_cell_chars}")
     path = os.fspath(path)
-    table = read_table(path)
+    table = read_table(path, sheet=sheet, skip_rows=skip_rows)
     mapping = mapping or _guess_for(path, table)
     problems = find_problems(table, mapping, max_cell_chars=max_cell_chars)
     if problems:
@@ -385,12 +393,13 @@ def _item(id_: str, fields: dict, expected: str, split: str, row: int) -> Item:
     return item
 
 
-def preview(path, rows: int = 5) -> tuple[pd.DataFrame, ColumnMapping | None, list[str]]:
+def preview(path, rows: int = 5, *, sheet: str | int | None = None,
+            skip_rows: int = 0) -> tuple[pd.DataFrame, ColumnMapping | None, list[str]]:
     """For a mapping dialog: the first rows, a guessed mapping (None if none can be guessed),
     and the problems loading with that mapping would meet. Raises SetError only when the
-    file cannot be read at all."""
+    file cannot be read at all. For a workbook, sheets.sheet_names lists the sheets."""
     path = os.fspath(path)
-    table = read_table(path)
+    table = read_table(path, sheet=sheet, skip_rows=skip_rows)
     head = table.head(rows)
     try:
         mapping = _guess_for(path, table)

@@ -15,6 +15,8 @@ from pathlib import Path
 from typing import Iterable
 
 from .records import Mark, RunInfo, ShelfEntry
+from .run_writers import stale_run_ids, this_writer
+from .store_files import READ_ONLY_HINT, StoreError, Transaction, connect, is_read_only
 from .sets import ColumnMapping, Item, QuestionSet
 from .store_schema import MIGRATIONS
 
@@ -22,31 +24,44 @@ SCHEMA_VERSION = len(MIGRATIONS)
 PROJECT_SUFFIX = ".hone"
 
 
-class StoreError(RuntimeError):
-    """The project file cannot be opened or is from a newer honebench."""
-
-
 def now() -> str:
     return datetime.now(timezone.utc).isoformat(timespec="seconds")
 
 
 class Store:
-    """One project file. Safe to share between threads: each thread has its own connection."""
+    """One project file. Safe to share between threads: each thread has its own connection.
+
+    A file that may not be written is opened read-only: everything can be read (reports,
+    compare of existing runs) and every write raises StoreError saying what to do.
+    On open, runs left "running" by a process that has since died are marked "interrupted"
+    (``interrupted_on_open`` lists them); resume one with core.resume.resume_run.
+    """
 
     def __init__(self, path: str | Path):
         self.path = Path(path)
+        self.read_only = is_read_only(self.path)
         self._local = threading.local()
         self._lock = threading.Lock()
-        self._migrate()
+        try:
+            self._migrate()
+        except BaseException:
+            self.close()
+            raise
+        self.interrupted_on_open: list[int] = (
+            [] if self.read_only else self.mark_interrupted_runs())
 
     # -- connections ---------------------------------------------------------------------
     def _conn(self) -> sqlite3.Connection:
         conn = getattr(self._local, "conn", None)
         if conn is None:
             try:
-                conn = sqlite3.connect(self.path, timeout=30, isolation_level=None)
-                conn.execute("PRAGMA journal_mode=WAL")
+                conn = connect(self.path, self.read_only)
+                conn.execute("PRAGMA user_version").fetchone()  # fails here if not SQLite
             except sqlite3.DatabaseError as exc:
+                if not self.path.exists():
+                    raise StoreError(
+                        f"The project file {self.path} cannot be created ({exc}). Choose a "
+                        "folder you can write to.") from exc
                 raise StoreError(
                     f"{self.path} is not a honebench project file ({exc}). "
                     "Open a .hone file or create a new project."
@@ -63,8 +78,21 @@ class Store:
         if version > SCHEMA_VERSION:
             raise StoreError(
                 f"{self.path} was written by a newer honebench (schema {version}, this one "
-                f"knows {SCHEMA_VERSION}). Upgrade honebench to open it."
+                f"knows {SCHEMA_VERSION}). Upgrade honebench to open it; the file is left "
+                "as it is."
             )
+        if version < SCHEMA_VERSION and self.read_only:
+            raise StoreError(
+                f"{self.path} is read-only and was written by an older honebench (schema "
+                f"{version}); opening it needs an upgrade to schema {SCHEMA_VERSION}, which "
+                f"writes to the file. {READ_ONLY_HINT}, then open it again.")
+        if self.read_only:
+            return
+        try:  # only after the version check, so a file we refuse is never touched
+            conn.execute("PRAGMA journal_mode=WAL")
+        except sqlite3.DatabaseError as exc:
+            raise StoreError(f"{self.path} cannot be opened for writing ({exc}). "
+                             f"{READ_ONLY_HINT}.") from exc
         for number in range(version, SCHEMA_VERSION):
             with self._tx() as c:
                 for statement in _statements(MIGRATIONS[number]):
@@ -72,7 +100,10 @@ class Store:
                 c.execute(f"PRAGMA user_version={number + 1}")
 
     def _tx(self):
-        return _Transaction(self._conn(), self._lock)
+        if self.read_only:
+            raise StoreError(f"{self.path} is read-only, so honebench cannot save to it. "
+                             f"{READ_ONLY_HINT}, then try again. Nothing in it was changed.")
+        return Transaction(self._conn(), self._lock, self.path)
 
     def close(self) -> None:
         conn = getattr(self._local, "conn", None)
@@ -86,11 +117,17 @@ class Store:
         return default if row is None else json.loads(row[0])
 
     def set_setting(self, key: str, value) -> None:
+        """Save a setting; an unchanged value is not written again (so merely opening a
+        project and choosing what it already holds leaves the file as it was)."""
+        text = json.dumps(value)
+        row = self._conn().execute("SELECT value FROM settings WHERE key=?", (key,)).fetchone()
+        if row is not None and row[0] == text:
+            return
         with self._tx() as c:
             c.execute(
                 "INSERT INTO settings(key, value) VALUES(?, ?) "
                 "ON CONFLICT(key) DO UPDATE SET value=excluded.value",
-                (key, json.dumps(value)),
+                (key, text),
             )
 
     # -- question sets -------------------------------------------------------------------
@@ -194,8 +231,8 @@ class Store:
                 "INSERT INTO runs(set_id, wording_id, wording_text, placement, split, fingerprint,"
                 " params, check_spec, started_at, status, n_items) VALUES(?,?,?,?,?,?,?,?,?,?,?)",
                 (set_id, wording_id, wording_text, placement, split, fingerprint,
-                 json.dumps(params, sort_keys=True), json.dumps(check, sort_keys=True), now(),
-                 "running", n_items),
+                 json.dumps({**params, "writer": this_writer()}, sort_keys=True),
+                 json.dumps(check, sort_keys=True), now(), "running", n_items),
             )
             return cur.lastrowid
 
@@ -216,6 +253,17 @@ class Store:
         with self._tx() as c:
             c.execute("UPDATE runs SET status=?, finished_at=?, wall_seconds=? WHERE id=?",
                       (status, now(), wall_seconds, run_id))
+
+    def mark_interrupted_runs(self) -> list[int]:
+        """Mark "interrupted" every run saved as "running" whose writer has ended (see
+        run_writers); returns their ids. Runs a live process is writing are left alone."""
+        stale = stale_run_ids(self._conn().execute(
+            "SELECT id, params FROM runs WHERE status='running' ORDER BY id"))
+        if stale:
+            with self._tx() as c:
+                c.executemany("UPDATE runs SET status='interrupted', finished_at=? "
+                              "WHERE id=? AND status='running'", [(now(), i) for i in stale])
+        return stale
 
     def run(self, run_id: int) -> RunInfo:
         row = self._conn().execute("SELECT * FROM runs WHERE id=?", (run_id,)).fetchone()
@@ -291,24 +339,6 @@ class Store:
                 (key, fingerprint, params, prompt, text, prompt_tokens, completion_tokens,
                  seconds, finish_reason, now(), label_scores),
             )
-
-
-class _Transaction:
-    """BEGIN IMMEDIATE ... COMMIT, rolled back on error; serialised within the process."""
-
-    def __init__(self, conn: sqlite3.Connection, lock: threading.Lock):
-        self.conn, self.lock = conn, lock
-
-    def __enter__(self) -> sqlite3.Connection:
-        self.lock.acquire()
-        self.conn.execute("BEGIN IMMEDIATE")
-        return self.conn
-
-    def __exit__(self, kind, value, tb) -> None:
-        try:
-            self.conn.execute("ROLLBACK" if kind else "COMMIT")
-        finally:
-            self.lock.release()
 
 
 def _statements(script: str) -> Iterable[str]:

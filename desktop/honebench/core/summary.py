@@ -9,6 +9,16 @@ from .sets import Item
 from .stats import LabelReport, Score, label_report, score
 
 
+STATUS_WORDS = {
+    "finished": "finished",
+    "running": "running",
+    "interrupted": "interrupted (honebench stopped before it ended; resume it to finish)",
+    "cancelled": "cancelled, finished marks kept",
+    "failed": "stopped by an error",
+    "resumed": "interrupted, then resumed as a later run",
+}
+
+
 @dataclass(frozen=True)
 class RunSummary:
     score: Score
@@ -19,6 +29,9 @@ class RunSummary:
     labels: LabelReport | None = None
     mean_similarity: float | None = None  # for the fuzzy check
     wall_seconds: float | None = None  # the run on the clock (items overlap in model time)
+    status: str = "finished"  # the run's status (see core.resume.STATUS_WORDS)
+    planned: int = 0  # items the run set out to grade (0: as many as were graded)
+    first_error: str | None = None
 
     def time_text(self) -> str:
         """"model time 824.9 s, wall time 230.1 s": model time adds up every item's own
@@ -31,8 +44,14 @@ class RunSummary:
     def lines(self) -> list[str]:
         """Plain text lines for the CLI and the report."""
         out = [f"score: {self.score.text()}"]
+        if self.status not in ("finished", "running"):
+            out.append(self.status_text())
         out.append(f"check: {self.check}; errors: {self.errors}; from cache: {self.cached}; "
                    f"{self.time_text()}")
+        if self.errors:
+            out.append(f"{self.errors} item{'s' if self.errors > 1 else ''} got no answer "
+                       f"(first: {self.first_error}) and count as misses; grading again asks "
+                       "only for those, the answers already received come from the cache.")
         if self.mean_similarity is not None:
             out.append(f"mean similarity: {self.mean_similarity:.3f}")
         if self.labels is not None:
@@ -42,8 +61,15 @@ class RunSummary:
                        "points by chance; compare versions on the same items before choosing.")
         return out
 
+    def status_text(self) -> str:
+        """One line on a run that did not finish, e.g. an interrupted run."""
+        planned = max(self.planned, self.score.total)
+        return (f"status: {STATUS_WORDS.get(self.status, self.status)}; {self.score.total} of "
+                f"{planned} items graded, and the score covers only those.")
+
     def as_dict(self) -> dict:
         d = {
+            "status": self.status, "planned": max(self.planned, self.score.total),
             "passed": self.score.passed, "total": self.score.total, "score": self.score.rate,
             "interval": [self.score.low, self.score.high], "check": self.check,
             "errors": self.errors, "cached": self.cached,
@@ -68,7 +94,8 @@ OTHER = "(no label)"
 
 
 def summarize(marks: Sequence[Mark], items: Sequence[Item], check_kind: str,
-              labels: Sequence[str] = (), wall_seconds: float | None = None) -> RunSummary:
+              labels: Sequence[str] = (), wall_seconds: float | None = None, *,
+              status: str = "finished", planned: int = 0) -> RunSummary:
     expected = {it.id: it.expected for it in items}
     passed = sum(m.passed for m in marks)
     report = None
@@ -85,7 +112,9 @@ def summarize(marks: Sequence[Mark], items: Sequence[Item], check_kind: str,
         score=score(passed, len(marks)), check=check_kind,
         errors=sum(m.error is not None for m in marks), cached=sum(m.cached for m in marks),
         model_seconds=sum(m.seconds for m in marks if not m.cached), labels=report,
-        mean_similarity=similarity, wall_seconds=wall_seconds)
+        mean_similarity=similarity, wall_seconds=wall_seconds, status=status,
+        planned=planned,
+        first_error=next((m.error for m in marks if m.error is not None), None))
 
 
 def label_lines(rep: LabelReport) -> list[str]:

@@ -121,19 +121,25 @@ def _transport_problem(exc: BaseException, url: str, timeout: float) -> str:
     return f"the connection to {url} failed ({type(exc).__name__}: {one_line(exc)})"
 
 
+DEFAULT_TIMEOUT = 30.0  # seconds to wait for each request's answer (common practice)
+
+
 class EndpointEngine:
     """An OpenAI-protocol HTTP endpoint. ``base_url`` is the part before /chat/completions,
     e.g. http://127.0.0.1:8080/v1. ``model`` is sent as the "model" field when given (many
-    local servers ignore it). ``api_key`` goes only into the Authorization header."""
+    local servers ignore it). ``api_key`` goes only into the Authorization header.
+    ``timeout``: seconds each request may wait for the server; when it passes, that item
+    gets an error mark and the run goes on."""
 
     kind = "endpoint"
 
     def __init__(self, base_url: str, model: str = "", api_key: str | None = None, *,
-                 concurrency: int = 4, timeout: float = 120.0):
+                 concurrency: int = 4, timeout: float = DEFAULT_TIMEOUT):
         if not isinstance(concurrency, int) or concurrency < 1:
             raise EngineError(f"concurrency must be a whole number of at least 1, "
                               f"not {concurrency!r}.")
-        if not timeout or timeout <= 0:
+        if isinstance(timeout, bool) or not isinstance(timeout, (int, float)) \
+                or not math.isfinite(timeout) or timeout <= 0:
             raise EngineError(f"timeout must be a positive number of seconds, not {timeout!r}.")
         self.base_url = str(base_url).strip().rstrip("/")
         self.model = model

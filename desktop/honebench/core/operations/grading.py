@@ -137,6 +137,29 @@ class GradingOps:
         _finish(on_event, "finished", began)
         return Done(comparison, changes)
 
+    def resume(self, engine, run_id: int | None = None, *, on_event: Listener | None = None,
+               cancel: threading.Event | None = None) -> Done[RunOutcome]:
+        """Finish an interrupted grade run (default: the latest) as a new run; the items it
+        had graded come back from the cache. ValueError when it cannot be resumed."""
+        from ..resume import resume_run, unfinished_runs
+
+        began = time.perf_counter()
+        if run_id is None:
+            found = unfinished_runs(self.store)
+            if not found:
+                raise LookupError(f"{self.path} has no interrupted grade run to resume")
+            run_id = found[-1].run.id
+        on_mark = (lambda mark, prog: on_event(Marked(mark, prog))) if on_event else None
+        outcome = resume_run(self.store, engine, run_id, on_mark=on_mark, cancel=cancel)
+        _finish(on_event, outcome.status, began)
+        return Done(outcome, GRADED)
+
+    def interrupted_note(self) -> str | None:
+        """One line on the grade runs found interrupted when this project was opened."""
+        from ..resume import interrupted_note
+
+        return interrupted_note(self.store, self.path)
+
     def _finished_run(self, engine, wording: Wording, entry: ShelfEntry, split: str,
                       settings, on_event, cancel) -> int:
         outcome = grade_wording(
