@@ -140,6 +140,10 @@ def _engine_args(p: argparse.ArgumentParser, generation: bool = True) -> None:
     p.add_argument("--seed", type=int, help="sampling seed (default: the project's setting)")
     p.add_argument("--answer-mode", choices=ANSWER_MODES, help="score: rank the allowed labels "
                    "(label check); generate: let the model write (default: the project's)")
+    p.add_argument("--calibrate", action=argparse.BooleanOptionalAction, default=None,
+                   help="score mode: divide each item's label shares by the wording's label "
+                        "prior, scored with every input field empty or N/A (default: the "
+                        "project's setting)")
 
 
 def main(argv: list[str] | None = None) -> int:

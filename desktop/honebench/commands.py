@@ -63,7 +63,8 @@ def run_settings(project: Project, args):
     """The project's settings with this run's flags applied (not saved)."""
     return project.settings().override(
         max_tokens=args.max_tokens, temperature=args.temperature, seed=args.seed,
-        answer_mode=getattr(args, "answer_mode", None))
+        answer_mode=getattr(args, "answer_mode", None),
+        calibrate=getattr(args, "calibrate", None))
 
 
 def _with_engine(args, work):

@@ -20,6 +20,7 @@ from dataclasses import dataclass, replace
 from typing import Callable, Sequence
 
 from .answer_stops import stop_rule
+from .calibration import CONTENT_FREE, average_prior, calibrate_result, content_free_fields
 from .check_fit import check_fits_set
 from .checks import CheckSpec, judge
 from .engines.base import Engine, Params, Request, Result
@@ -120,18 +121,24 @@ class Grader:
         if not check.labels and check.kind == "label":
             check = replace(check, labels=tuple(qset.labels()))
         fingerprint = self.engine.fingerprint()
-        params = replace(params, answer_mode=answer_mode(params, check, self.engine))
+        mode = answer_mode(params, check, self.engine)
+        params = replace(params, answer_mode=mode, calibrate=params.calibrate and mode == "score")
         cancel = cancel or threading.Event()
         tally = _Tally(sum(len(p.items) for p in plans))
+        priors = [self._label_prior(p, params, check, fingerprint) if params.calibrate else None
+                  for p in plans]
         runs = [_Run(self.store.start_run(
             set_id=set_id, wording_text=p.wording.text, placement=p.wording.placement,
-            split=p.split, fingerprint=fingerprint, params=params.as_dict(),
+            split=p.split, fingerprint=fingerprint,
+            params=_with_prior(params.as_dict(), check.labels, prior),
             check=check.as_dict(), n_items=len(p.items), wording_id=p.wording_id), p)
-            for p in plans]
+            for p, prior in zip(plans, priors)]
         scoring = params.answer_mode == "score"
 
         def record(index: int, item: Item, result: Result, prompt: str) -> None:
             run = runs[index]
+            if priors[index] is not None:
+                result = calibrate_result(result, check.labels, priors[index])
             mark = _mark(item, result, prompt, check)
             self.store.add_mark(run.id, mark, len(run.marks))
             run.marks.append(mark)
@@ -167,6 +174,34 @@ class Grader:
                 self.store.finish_run(run.id, run.status, tally.elapsed())
         return [RunOutcome(r.id, r.status, tuple(r.marks), tally.elapsed(), r.calls)
                 for r in runs]
+
+    def _label_prior(self, plan: Plan, params: Params, check: CheckSpec,
+                     fingerprint: str) -> tuple[float, ...] | None:
+        """The wording's label prior: label shares for its content-free prompts (every input
+        field "" or "N/A"), averaged. They go through the completion cache like any item.
+        None when there are no items or the engine fails on a content-free prompt (the run
+        is then not calibrated, and its params say so)."""
+        if not plan.items:
+            return None
+        names = list(plan.items[0].fields)
+        blanks = tuple(Item(id=f"content-free {i}", fields=content_free_fields(names, filler),
+                            expected="", split=plan.split, row=0)
+                       for i, filler in enumerate(CONTENT_FREE))
+        found: dict[str, Result] = {}
+        pending = self._answer_from_cache(
+            0, Plan(plan.wording, blanks, plan.split), params, check, fingerprint,
+            lambda _i, item, result, _p: found.__setitem__(item.id, result))
+        by_key = {req.key: (item, prompt, key) for _, item, req, prompt, key in pending}
+        for result in self.engine.score_labels([req for _, _, req, _, _ in pending]):
+            item, prompt, key = by_key[result.key]
+            if result.error is None:
+                self._remember(key, fingerprint, params, prompt, result, check.labels)
+            found[item.id] = result
+        rows = [r.label_shares for r in found.values()]
+        if len(rows) < len(blanks) or any(r.error or len(r.label_shares) != len(check.labels)
+                                          for r in found.values()):
+            return None
+        return average_prior(rows)
 
     def _answer_from_cache(self, index: int, plan: Plan, params: Params, check: CheckSpec,
                            fingerprint: str, record):
@@ -210,6 +245,15 @@ class Grader:
             params=repr(params.as_dict()), prompt=prompt, text=result.text,
             prompt_tokens=result.prompt_tokens, completion_tokens=result.completion_tokens,
             seconds=result.seconds, finish_reason=result.finish_reason, label_scores=scores)
+
+
+def _with_prior(params: dict, labels: Sequence[str], prior) -> dict:
+    """Run params plus, for a calibrated run, the label prior it divided by."""
+    if not params.get("calibrate"):
+        return params
+    noted = {"content_free": list(CONTENT_FREE)}
+    noted["label_prior"] = dict(zip(labels, prior)) if prior is not None else None
+    return {**params, **noted}
 
 
 def _cached_result(item_id: str, hit) -> Result:

@@ -19,6 +19,7 @@ class ProjectSettings:
     temperature: float = _DEFAULT.temperature
     seed: int = _DEFAULT.seed
     answer_mode: str = _DEFAULT.answer_mode  # score: rank the allowed labels; generate: write
+    calibrate: bool = _DEFAULT.calibrate  # score mode: divide by the content-free label prior
 
     def validate(self) -> "ProjectSettings":
         if not isinstance(self.max_tokens, int) or not 1 <= self.max_tokens <= 4096:
@@ -31,6 +32,8 @@ class ProjectSettings:
         if self.answer_mode not in ANSWER_MODES:
             raise ValueError(f"answer mode must be one of {', '.join(ANSWER_MODES)}, not "
                              f"{self.answer_mode!r}")
+        if not isinstance(self.calibrate, bool):
+            raise ValueError(f"calibrate must be true or false, not {self.calibrate!r}")
         return self
 
     def override(self, **changes) -> "ProjectSettings":
@@ -41,7 +44,8 @@ class ProjectSettings:
     def params(self) -> Params:
         """The engine parameters these settings stand for (part of every cache key)."""
         return Params(max_tokens=self.max_tokens, temperature=float(self.temperature),
-                      seed=self.seed, answer_mode=self.answer_mode)
+                      seed=self.seed, answer_mode=self.answer_mode,
+                      calibrate=self.calibrate)
 
     def as_dict(self) -> dict:
         return asdict(self)

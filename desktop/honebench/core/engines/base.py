@@ -68,7 +68,8 @@ class Params:
     """Generation settings that change the output; part of every cache key.
 
     ``answer_mode`` "score" means: for a label check, score each allowed label instead of
-    generating an answer; other checks always generate.
+    generating an answer; other checks always generate. ``calibrate``: in score mode, divide
+    each item's label shares by the wording's content-free label prior (calibration.py).
     """
 
     max_tokens: int = DEFAULT_MAX_TOKENS
@@ -76,19 +77,24 @@ class Params:
     stop: tuple[str, ...] = field(default_factory=tuple)
     seed: int = 0
     answer_mode: str = "score"
+    calibrate: bool = False
 
     def __post_init__(self):
         if self.answer_mode not in ANSWER_MODES:
             raise ValueError(f"answer mode must be score or generate, not {self.answer_mode!r}")
 
     def as_dict(self) -> dict:
-        return {
+        """``calibrate`` appears only when on, so uncalibrated cache keys stay as they were."""
+        out = {
             "max_tokens": self.max_tokens,
             "temperature": self.temperature,
             "stop": list(self.stop),
             "seed": self.seed,
             "answer_mode": self.answer_mode,
         }
+        if self.calibrate:
+            out["calibrate"] = True
+        return out
 
 
 class Engine(Protocol):
