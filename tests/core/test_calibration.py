@@ -7,7 +7,7 @@ import pytest
 
 from honebench.core.calibration import CONTENT_FREE, calibrated_shares
 from honebench.core.engines.base import Params, Request, Result
-from honebench.core.grading import Grader
+from honebench.core.grading import Grader, shared_prefix_chars
 from honebench.core.project import Project
 from honebench.core.wording import Wording, build_prompt
 from tests.fakes import FakeEngine
@@ -72,13 +72,13 @@ def test_worked_example_dividing_by_the_prior():
 def test_calibration_undoes_a_known_label_bias(project):
     _, qset = project.current_set()
     engine = BiasedScorer({it.fields["message"]: it.expected for it in qset.items})
-    plain = _grade(project, engine)
+    plain = _grade(project, engine, params=Params(calibrate=False))
     # uncalibrated, the bias wins: only refund and booking_change, right only on those items
     assert {m.extracted for m in plain.marks} == {"refund", "booking_change"}
     assert sum(m.passed for m in plain.marks) == sum(
         it.expected in ("refund", "booking_change") for it in qset.items)
     before = engine.scored
-    fixed = _grade(project, engine, params=Params(calibrate=True))
+    fixed = _grade(project, engine)  # calibrated by default
     # one content-free prompt per filler ("" and "N/A") plus every item: all new cache keys
     assert engine.scored - before == len(CONTENT_FREE) + len(qset.items)
     assert all(m.passed for m in fixed.marks)
@@ -88,7 +88,8 @@ def test_calibration_undoes_a_known_label_bias(project):
     params = project.store.run(fixed.run_id).params
     assert params["calibrate"] is True and params["content_free"] == list(CONTENT_FREE)
     assert params["label_prior"] == pytest.approx(PRIOR)
-    assert "calibrate" not in project.store.run(plain.run_id).params
+    assert project.store.run(plain.run_id).params["calibrate"] is False
+    assert "label_prior" not in project.store.run(plain.run_id).params
     # a regrade comes from the cache, content-free prompts included, and chooses the same
     again = _grade(project, engine, params=Params(calibrate=True))
     assert engine.scored - before == len(CONTENT_FREE) + len(qset.items)
@@ -116,16 +117,19 @@ def test_real_model_calibrated_shares_and_recorded_prior(project, local_engine):
     prior = project.store.run(outcome.run_id).params["label_prior"]
     assert set(prior) == set(LABELS) and sum(prior.values()) == pytest.approx(1.0)
     # the prior is the average of the model's own shares for the content-free prompts
+    prefix = shared_prefix_chars(local_engine, wording, ["message"])  # as the grader sends
     direct = []
     for i, filler in enumerate(CONTENT_FREE):
         built = build_prompt(wording, {"message": filler})
-        req = Request(key=str(i), messages=built.messages, prefill=built.prefill, labels=LABELS)
+        req = Request(key=str(i), messages=built.messages, prefill=built.prefill, labels=LABELS,
+                      prefix_chars=prefix)
         direct.append(next(iter(local_engine.score_labels([req]))).label_shares)
     want = [sum(row[k] for row in direct) / len(direct) for k in range(len(LABELS))]
     assert [prior[lab] for lab in LABELS] == pytest.approx(want, rel=1e-4)
     for item, mark in zip(items, outcome.marks):
         built = build_prompt(wording, item.fields)
-        req = Request(key=item.id, messages=built.messages, prefill=built.prefill, labels=LABELS)
+        req = Request(key=item.id, messages=built.messages, prefill=built.prefill, labels=LABELS,
+                      prefix_chars=prefix)
         raw = next(iter(local_engine.score_labels([req])))
         share = calibrated_shares(raw.label_logprobs, want)
         assert sum(share) == pytest.approx(1.0) and all(0 <= s <= 1 for s in share)

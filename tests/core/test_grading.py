@@ -165,7 +165,8 @@ class ScoringFake(FakeEngine):
 
 def test_score_mode_asks_for_label_scores_and_records_confidence(project):
     engine = ScoringFake()
-    outcome = _grade(project, engine)
+    raw = Params(calibrate=False)  # the fake's shares as they are (calibration: test_calibration)
+    outcome = _grade(project, engine, params=raw)
     assert engine.scored == len(outcome.marks) and engine.calls == 0
     mark = outcome.marks[0]
     assert mark.extracted == "timetable" and mark.confidence == pytest.approx(0.61)
@@ -173,7 +174,7 @@ def test_score_mode_asks_for_label_scores_and_records_confidence(project):
     assert "label scoring: timetable 0.61, next refund 0.22" in mark.why
     assert project.store.run(outcome.run_id).params["answer_mode"] == "score"
     assert project.store.marks(outcome.run_id)[0].confidence == pytest.approx(0.61)
-    again = _grade(project, engine)  # from the cache, shares included
+    again = _grade(project, engine, params=raw)  # from the cache, shares included
     assert engine.scored == len(outcome.marks)
     assert again.marks[0].confidence == pytest.approx(0.61) and again.marks[0].cached
 

@@ -9,6 +9,8 @@ Answer modes (``Params.answer_mode``): "score" asks the engine, for a label chec
 likely each allowed label is and takes the most likely (label scoring, no generation);
 "generate" and every other check generate an answer, stopped as soon as the check can
 decide (answer_stops.py). The mode actually used is in the run record and the cache key.
+In score mode with ``Params.calibrate`` (the default), the label shares are divided by the
+wording's content-free label prior (calibration.py); the prior is in the run's params.
 """
 from __future__ import annotations
 

@@ -56,6 +56,7 @@ def run_params(run: RunInfo) -> Params:
     """The generation settings a run was graded with."""
     known = {f.name for f in fields(Params)}
     values = {k: v for k, v in run.params.items() if k in known}
+    values.setdefault("calibrate", False)  # runs saved before calibration existed
     if "stop" in values:
         values["stop"] = tuple(values["stop"])
     return Params(**values)
