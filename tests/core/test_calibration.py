@@ -1,7 +1,9 @@
 """Contextual calibration of label scores (core/calibration.py and score mode in grading)."""
 from __future__ import annotations
 
+import json
 import math
+import sqlite3
 
 import pytest
 
@@ -126,13 +128,13 @@ def test_real_model_calibrated_shares_and_recorded_prior(project, local_engine):
         direct.append(next(iter(local_engine.score_labels([req]))).label_shares)
     want = [sum(row[k] for row in direct) / len(direct) for k in range(len(LABELS))]
     assert [prior[lab] for lab in LABELS] == pytest.approx(want, rel=1e-4)
-    for item, mark in zip(items, outcome.marks):
-        built = build_prompt(wording, item.fields)
-        req = Request(key=item.id, messages=built.messages, prefill=built.prefill, labels=LABELS,
-                      prefix_chars=prefix)
-        raw = next(iter(local_engine.score_labels([req])))
-        share = calibrated_shares(raw.label_logprobs, want)
-        assert sum(share) == pytest.approx(1.0) and all(0 <= s <= 1 for s in share)
-        assert mark.extracted == LABELS[share.index(max(share))]
-        assert mark.confidence == pytest.approx(max(share), rel=1e-3)
-        assert mark.confidence + mark.runner_up_share <= 1 + 1e-9
+    # each mark's choice and shares are its raw scores (as cached) divided by that prior
+    with sqlite3.connect(project.path) as db:
+        for mark in outcome.marks:
+            saved = json.loads(db.execute("SELECT label_scores FROM completion_cache WHERE "
+                                          "prompt = ?", (mark.prompt,)).fetchone()[0])
+            share = calibrated_shares(saved["logprobs"], want)
+            assert sum(share) == pytest.approx(1.0) and all(0 <= s <= 1 for s in share)
+            assert mark.extracted == LABELS[share.index(max(share))]
+            assert mark.confidence == pytest.approx(max(share), rel=1e-3)
+            assert mark.confidence + mark.runner_up_share <= 1 + 1e-9
