@@ -13,7 +13,7 @@ from honebench.core.checks import CheckSpec
 from honebench.core.project import Project
 from honebench.core.sets import ColumnMapping
 from honebench.gui.app import App, compose
-from honebench.gui.project.state import preview_set
+from honebench.core.project import preview_set
 
 from .pictures import non_blank
 
