@@ -262,7 +262,8 @@ class App:
         self.preview.set_items(qset.tuning() if qset else ())
         self.preview.set_wording(state.draft)
         self.shelf_panel.set_editor_text(state.draft.text)
-        self.engine.show_settings(state.settings, state.check.kind == "label")
+        self.engine.show_settings(state.settings, state.check.kind == "label"
+                                  and bool(state.check.labels))
         n = len(qset.items) if qset else 0
         self.window.status(
             f"Opened {state.project.path.name}: {n} items, {len(state.shelf)} on the shelf"
