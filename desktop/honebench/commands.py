@@ -91,9 +91,11 @@ def grade_verb(args) -> int:
         check_fits_set(check, project.current_set()[1])  # refused before the check is saved
         project.set_check(check)
         draft = project.draft()
-        text = (args.wording_file.read_text(encoding="utf-8") if args.wording_file
-                else args.wording)
-        wording = Wording(text.strip() if text is not None else draft.text,
+        # the text exactly as given, as the window keeps it (a trailing space can matter at
+        # the start of the answer); a file loses only its final line break
+        text = (args.wording_file.read_text(encoding="utf-8").removesuffix("\n")
+                .removesuffix("\r") if args.wording_file else args.wording)
+        wording = Wording(text if text is not None else draft.text,
                           args.placement or draft.placement)
         if not wording.text:
             raise ValueError("no wording given: pass --wording TEXT or --wording-file FILE")
