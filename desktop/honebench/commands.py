@@ -315,16 +315,17 @@ def resume_verb(args) -> int:
         done = _with_engine(args, lambda engine: project.resume(
             engine, args.run, on_event=ProgressPrinter(quiet=args.json),
             cancel=threading.Event()))
-        outcome = done.value
+        resumed, outcome = done.value.resumed, done.value.outcome
         summary = project.summary(outcome.run_id)
         if args.json:
             out = summary.as_dict()
-            out.update(run_id=outcome.run_id, status=outcome.status,
+            out.update(run_id=outcome.run_id, resumed=resumed, status=outcome.status,
                        model_calls=outcome.model_calls,
                        marks=[m.as_dict() for m in outcome.marks])
             print(json.dumps(out, indent=2, ensure_ascii=False))
         else:
-            print(f"resumed as run {outcome.run_id}: {outcome.status}, {outcome.model_calls} "
+            print(f"resumed run {resumed} as run {outcome.run_id}: {outcome.status}, "
+                  f"{outcome.model_calls} "
                   "model calls, the other answers from the cache")
             for line in summary.lines():
                 print(line)
