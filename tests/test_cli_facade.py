@@ -72,3 +72,25 @@ def test_every_verb_refuses_the_same_wrong_extension(tmp_path):
         done = honebench(*verb, tmp_path / "p.honebench", *args.get(verb[0], []),
                          home=tmp_path, check=False)
         assert done.returncode == 2 and "end in .hone" in done.stderr, verb
+
+
+def test_cli_keeps_the_wording_exactly_as_given(tmp_path, sample_dir, monkeypatch, capsys):
+    """A trailing space at the start of the answer changes the prompt, so the CLI keeps it
+    as the window does (stripping it made the two fronts miss each other's cache); a
+    wording file loses only its final line break."""
+    from honebench import cli
+    from tests.fakes import FakeEngine
+
+    monkeypatch.setattr(cli, "open_engine", lambda _args: FakeEngine(lambda _r: "refund"))
+    project_path = tmp_path / "exact.hone"
+    head = "Department (refund or timetable): "
+    assert cli.main(["grade", str(_small_set(tmp_path, sample_dir)), "--wording", head,
+                     "--placement", "answer", "--project", str(project_path)]) == 0
+    wording_file = tmp_path / "w.txt"
+    wording_file.write_text("Route it.  \n", encoding="utf-8")
+    assert cli.main(["grade", str(project_path), "--wording-file", str(wording_file)]) == 0
+    capsys.readouterr()
+    project = Project.open(project_path).value
+    texts = [row.entry.text for row in project.shelf_rows()]
+    project.close()
+    assert texts == [head, "Route it.  "]

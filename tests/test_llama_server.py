@@ -30,7 +30,8 @@ pytestmark = pytest.mark.model
 
 WORDING = Wording("Which department should handle this message? Reply with one of: refund, "
                   "booking_change, lost_property, accessibility, timetable.", "before")
-PARAMS = Params(max_tokens=8, temperature=0.0, seed=0)
+# written answers: these tests compare the server's generation with llama-cpp-python's own
+PARAMS = Params(max_tokens=8, temperature=0.0, seed=0, answer_mode="generate")
 N_CTX = 2048
 
 
@@ -128,6 +129,27 @@ def test_grading_through_the_server_matches_llama_cpp_python(server, project):
     # graded again: every answer from the project's cache, no request to the server
     again = _grade(project, EndpointEngine(server.url), items)
     assert again.model_calls == 0 and all(m.cached for m in again.marks)
+
+
+def test_label_scoring_through_the_server(server, project):
+    """Score mode over the protocol: each mark names one of the labels, with a share from
+    the server's first-token log-probabilities, or, when the server gives none, the written
+    answer with a note saying so."""
+    items = project.current_set()[1].tuning()[:6]
+    labels = project.check().labels or project.current_set()[1].labels()
+    engine = EndpointEngine(server.url, concurrency=2)
+    set_id, qset = project.current_set()
+    outcome = Grader(project.store, engine).grade(
+        set_id=set_id, qset=qset, wording=WORDING, check=project.check(),
+        params=Params(max_tokens=8, answer_mode="score"), items=items)
+    engine.close()
+    assert outcome.status == "finished" and all(m.error is None for m in outcome.marks)
+    scored = [m for m in outcome.marks if m.confidence is not None]
+    for m in scored:
+        assert m.extracted in labels and 0 < m.confidence <= 1 and m.runner_up in labels
+    for m in outcome.marks:
+        if m.confidence is None:
+            assert "gave no logprobs" in m.why, m.why
 
 
 def test_concurrent_requests_all_get_their_own_answer(server, tmp_path, sample_dir):

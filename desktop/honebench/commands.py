@@ -92,9 +92,11 @@ def grade_verb(args) -> int:
         check_fits_set(check, project.current_set()[1])  # refused before the check is saved
         project.set_check(check)
         draft = project.draft()
-        text = (args.wording_file.read_text(encoding="utf-8") if args.wording_file
-                else args.wording)
-        wording = Wording(text.strip() if text is not None else draft.text,
+        # the text exactly as given, as the window keeps it (a trailing space can matter at
+        # the start of the answer); a file loses only its final line break
+        text = (args.wording_file.read_text(encoding="utf-8").removesuffix("\n")
+                .removesuffix("\r") if args.wording_file else args.wording)
+        wording = Wording(text if text is not None else draft.text,
                           args.placement or draft.placement)
         if not wording.text:
             raise ValueError("no wording given: pass --wording TEXT or --wording-file FILE")
@@ -314,16 +316,17 @@ def resume_verb(args) -> int:
         done = _with_engine(args, lambda engine: project.resume(
             engine, args.run, on_event=ProgressPrinter(quiet=args.json),
             cancel=threading.Event()))
-        outcome = done.value
+        resumed, outcome = done.value.resumed, done.value.outcome
         summary = project.summary(outcome.run_id)
         if args.json:
             out = summary.as_dict()
-            out.update(run_id=outcome.run_id, status=outcome.status,
+            out.update(run_id=outcome.run_id, resumed=resumed, status=outcome.status,
                        model_calls=outcome.model_calls,
                        marks=[m.as_dict() for m in outcome.marks])
             print(json.dumps(out, indent=2, ensure_ascii=False))
         else:
-            print(f"resumed as run {outcome.run_id}: {outcome.status}, {outcome.model_calls} "
+            print(f"resumed run {resumed} as run {outcome.run_id}: {outcome.status}, "
+                  f"{outcome.model_calls} "
                   "model calls, the other answers from the cache")
             for line in summary.lines():
                 print(line)

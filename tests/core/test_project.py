@@ -70,8 +70,8 @@ def test_sample_recipe_sets_check_draft_and_title(tmp_path, sample_dir):
 def test_keep_twice_gives_one_entry_and_set_aside_flips_it(tmp_path):
     project = Project(tmp_path / "p.hone")
     w = Wording("Say the desk.", "system")
-    first = project.keep(w)
-    assert project.keep(w).id == first.id
-    assert project.set_aside(w, note="vague").decision == "set_aside"
+    first = project.keep(w).value
+    assert project.keep(w).value.id == first.id
+    assert project.set_aside(w, note="vague").value.decision == "set_aside"
     assert len(project.store.shelf()) == 1
     project.close()

@@ -132,7 +132,7 @@ def test_each_strategy_with_the_real_model(tmp_path, sample_dir, local_engine, s
 
     project = small_project(tmp_path, sample_dir)
     project.keep(project.draft())
-    other = project.keep(Wording("Read the message. Name the desk in one word.", "before"))
+    other = project.keep(Wording("Read the message. Name the desk in one word.", "before")).value
     out = suggest(project, local_engine, strategy, count=2, other_id=other.id, early_slice=6,
                   params=Params(max_tokens=10))
     if out.cards:

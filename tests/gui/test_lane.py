@@ -18,8 +18,8 @@ OTHER = "Name the department for this passenger message, one word only."
 
 def open_app(qtbot, runner, settings, tmp_path, sample_dir):
     project = small_project(tmp_path, sample_dir)
-    v1 = project.keep(project.draft()).id
-    v2 = project.keep(Wording(OTHER, "before")).id
+    v1 = project.keep(project.draft()).value.id
+    v2 = project.keep(Wording(OTHER, "before")).value.id
     path = project.path
     project.close()
     app = compose(runner, settings, quiet=True)

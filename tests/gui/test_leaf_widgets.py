@@ -16,6 +16,7 @@ from honebench.core.records import Mark, ShelfEntry
 from honebench.core.sets import ColumnMapping, load_set, preview
 from honebench.core.stats import score
 from honebench.gui.grading.item_view import ItemView
+from honebench.gui.grading.marks_model import EXTRACTED, MarksModel
 from honebench.gui.project.mapping_dialog import MappingDialog
 from honebench.gui.shelf.model import (EMPTY_TEXT, ID_ROLE, TUNING, VERSION,
                                        score_cell)
@@ -200,6 +201,29 @@ def test_item_view_steps_and_updates_in_place(qtbot, routing_set):
     errored = Mark(second.id, "", "", False, "engine error", error="timed out after 60 s")
     view.show_mark(second, errored)
     assert view.result.text() == "⚠ error: timed out after 60 s"
+
+
+def scored(item, chosen: str, share: float, runner_up: str, runner_share: float) -> Mark:
+    return Mark(item.id, chosen, chosen, chosen == item.expected, f"scored '{chosen}'",
+                confidence=share, runner_up=runner_up, runner_up_share=runner_share)
+
+
+def test_a_scored_label_shows_its_confidence_and_the_runner_up(qtbot, routing_set):
+    """The grade sheet's extracted column and the item view show a scored mark as
+    "timetable 0.61, next refund 0.22"; "(none)" when nothing was extracted."""
+    item = routing_set.items[0]
+    mark = scored(item, "timetable", 0.61, "refund", 0.22)
+    empty = Mark(item.id, "I cannot help.", "", False, "no label found")
+    plain = miss_for(item)  # generated, not scored: the label alone
+    model = MarksModel([mark, empty, plain], {item.id: item.expected})
+    model.set_labels({"timetable", "refund"})
+    shown = [model.data(model.index(row, EXTRACTED)) for row in range(3)]
+    assert shown == ["timetable 0.61, next refund 0.22", "(none)", "refund"]
+    view = ItemView(item, mark, "label")
+    qtbot.addWidget(view)
+    assert view.extracted.text() == "timetable 0.61, next refund 0.22"
+    view.show_mark(item, empty)
+    assert view.extracted.text() == "(none)"
 
 
 def test_escape_closes_the_item_view(qtbot, routing_set):

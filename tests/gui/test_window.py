@@ -13,7 +13,7 @@ from honebench.core.checks import CheckSpec
 from honebench.core.project import Project
 from honebench.core.sets import ColumnMapping
 from honebench.gui.app import App, compose
-from honebench.gui.project.state import preview_set
+from honebench.core.project import preview_set
 
 from .pictures import non_blank
 
@@ -130,7 +130,9 @@ def test_grade_filter_read_keep_restore_and_reopen(qtbot, runner, settings, tmp_
     height = window.window.height()
     with qtbot.waitSignal(window.shelf.kept, timeout=30_000):
         qtbot.keyClick(window.editor.text_edit, Qt.Key.Key_K, Qt.KeyboardModifier.ControlModifier)
-    qtbot.waitUntil(lambda: window.shelf_model.rowCount() == 1, timeout=30_000)
+    # the grade put the wording on the shelf as v1, not decided; keeping decides it
+    qtbot.waitUntil(lambda: window.shelf_model.rowCount() == 1
+                    and window.shelf_model.rows[0].entry.decision == "kept", timeout=30_000)
     v1 = window.shelf_model.rows[0].entry
     assert (v1.label, v1.text, v1.decision) == ("v1", WORDING, "kept")
     assert window.shelf_model.rows[0].tuning.total == 10  # its score comes from the run

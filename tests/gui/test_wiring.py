@@ -8,7 +8,8 @@ from pathlib import Path
 
 from PySide6.QtCore import Qt
 
-from honebench.core.project import Project
+from honebench.core.engines.base import Params
+from honebench.core.project import Project, ProjectSettings
 from honebench.core.wording import Wording
 from honebench.gui.app import compose
 
@@ -34,11 +35,19 @@ def answer_key(project: Project):
     return answer
 
 
+def engine_for(project: Project) -> FakeEngine:
+    return FakeEngine(answer_key(project))
+
+
 def composed(qtbot, runner, settings, tmp_path, sample_dir):
     project = small_project(tmp_path, sample_dir)
-    engine = FakeEngine(answer_key(project))
+    engine = engine_for(project)
     path = project.path
     project.close()
+    return composed_on(qtbot, runner, settings, path, engine)
+
+
+def composed_on(qtbot, runner, settings, path, engine):
     app = compose(runner, settings, engine_factory=lambda _source: engine, quiet=True)
     qtbot.addWidget(app.window)
     app.window.show()
@@ -178,3 +187,58 @@ def test_switching_the_engine_mid_run_cancels_the_run_first(qtbot, runner, setti
     assert switched == ["grading"]  # the user is told what was cancelled
     assert app.window.problems == []
     app.window.close()
+
+
+def test_the_engine_bar_shows_and_saves_the_projects_settings(qtbot, runner, settings,
+                                                             tmp_path, sample_dir):
+    project = small_project(tmp_path, sample_dir)
+    project.set_settings(ProjectSettings(max_tokens=40, temperature=0.3))
+    engine, path = engine_for(project), project.path
+    project.close()
+    app, engine, path = composed_on(qtbot, runner, settings, path, engine)
+    bar = app.engine
+    assert (bar.max_tokens.value(), bar.temperature.value()) == (40, 0.3)
+    # a label check with labels: the answer-mode switch is offered and shows the setting
+    assert bar.answers.isEnabled() and bar.answers.currentData() == "score"
+
+    changed = []
+    runner.project_changed.connect(changed.append)
+    bar.max_tokens.setValue(Params().max_tokens)
+    bar.temperature.setValue(Params().temperature)
+    bar.answers.setCurrentIndex(bar.answers.findData("generate"))
+    bar.answers.activated.emit(bar.answers.currentIndex())  # what a user's choice sends
+    with qtbot.waitSignal(app.session.settings_saved, timeout=WAIT) as saved:
+        pass
+    assert saved.args[0] == ProjectSettings(answer_mode="generate")
+    qtbot.waitUntil(lambda: any(c.settings for c in changed), timeout=WAIT)
+    check = Project(path)
+    assert check.settings() == ProjectSettings(answer_mode="generate")  # the project's own
+    check.close()
+    app.window.close()
+
+
+def test_a_wording_graded_in_the_window_is_answered_from_the_cache_on_the_cli(
+        qtbot, runner, settings, tmp_path, sample_dir, monkeypatch, capsys):
+    """Same wording, default settings, both fronts: the CLI's grade asks the model nothing
+    (the fake engines share a fingerprint, so only the settings could make the keys
+    differ)."""
+    import json
+
+    from honebench import cli
+
+    app, engine, path = composed(qtbot, runner, settings, tmp_path, sample_dir)
+    graded = grade_and_keep(qtbot, app, GOOD)
+    assert engine.calls == graded.run.n_items == 11
+    app.window.close()
+
+    second = FakeEngine(lambda _req: "no idea")  # would fail every item if it were asked
+    monkeypatch.setattr(cli, "open_engine", lambda _args: second)
+    capsys.readouterr()
+    code = cli.main(["grade", str(tmp_path / "routing_small.csv"), "--wording", GOOD,
+                     "--placement", "before", "--input", "message", "--expected",
+                     "department", "--id-column", "id", "--project", str(path), "--json"])
+    assert code == 0
+    out = json.loads(capsys.readouterr().out)
+    assert second.calls == 0
+    assert len(out["marks"]) == 11 and all(m["cached"] for m in out["marks"])
+    assert all(m["passed"] for m in out["marks"])  # the window's answers, not "no idea"

@@ -43,10 +43,3 @@ class Done(Generic[T]):
 
     value: T
     changes: Changes = NOTHING
-
-    def __getattr__(self, name: str):
-        # Transitional: the window's older code reads e.g. ``project.keep(w).id`` from the
-        # time keep returned the entry itself. Remove once the window uses ``.value``.
-        if name.startswith("_") or name in ("value", "changes"):
-            raise AttributeError(name)
-        return getattr(self.value, name)

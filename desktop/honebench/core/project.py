@@ -22,7 +22,7 @@ from .operations.improve import ImproveOps
 from .operations.shelf import ShelfOps
 from .project_files import (DEMO_NAME, DEMO_SET, default_project_path, demo_set_path,
                             project_file, projects_dir)
-from .records import ShelfEntry
+from .records import RunInfo, ShelfEntry
 from .recipes import recipe_for
 from .sets import ColumnMapping, QuestionSet, guess_mapping, load_set, read_table
 from .settings import ProjectSettings
@@ -254,6 +254,14 @@ class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
 
     def run_view(self, run_id: int) -> RunView:
         return RunView(self.store.run(run_id), self.store.marks(run_id), self.summary(run_id))
+
+    def open_runs(self, split: str = "tuning") -> list[tuple[RunInfo, int, int]]:
+        """The runs still running on one split of the current set (suggestions being
+        scored), each with (passed, graded so far): their running scores."""
+        set_id = self.store.setting("current_set")
+        return [(run, *self.store.run_counts(run.id)) for run in self.store.runs()
+                if run.status == "running" and run.split == split
+                and (set_id is None or run.set_id == set_id)]
 
     def last_run(self) -> RunView | None:
         """The newest grade run on the current set that is not still running."""

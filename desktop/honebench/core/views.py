@@ -48,6 +48,14 @@ class GradeResult:
 
 
 @dataclass(frozen=True)
+class ResumeResult:
+    """An interrupted run (``resumed``) finished as a new run (``outcome``)."""
+
+    resumed: int
+    outcome: "RunOutcome"
+
+
+@dataclass(frozen=True)
 class ConfirmResult:
     """A shelf version graded on the held-out items."""
 

@@ -11,12 +11,14 @@ Where things are:
                   model lane (one model user at a time, others wait visibly), and
                   project_changed(Changes) after every operation that returns Done
     actions.py    the one action builder;  tables.py  the table-model base;
-    paths.py      the save-path helper;    engine_bar.py  choosing and loading the model
+    paths.py      the save-path helper;    engine_bar.py  choosing and loading the model,
+                  and the project's settings (temperature, max tokens, answer mode)
     snapshot.py   `honebench gui --snapshot`;  tour.py  help and the guided tour
-    project/      operations.py (EVERY user act, no Qt: grade, confirm, compare, suggest,
-                  hone, keep, set_aside, restore, set_note, import_set, set_check,
-                  save_draft, export_report, export_marks, export_wording), session.py (the
-                  open project, draft saving), state.py, import_flow.py, mapping_dialog.py,
+    project/      operations.py (EVERY user act, no Qt, each one core.Project call: grade,
+                  confirm, compare, suggest, hone, keep, set_aside, restore, set_note,
+                  import_set, set_check, set_settings, save_draft, export_*), session.py
+                  (the open project, draft and settings saving), state.py (what the window
+                  shows, read through Project), import_flow.py, mapping_dialog.py,
                   exports.py, files.py
     grading/      editor, prompt preview, grade sheet (model, panel, summary), grade control,
                   item view
@@ -27,5 +29,6 @@ Where things are:
 
 Rules: a widget takes what it needs in its constructor; it learns of changes from
 ``JobRunner.project_changed`` and ``ProjectSession.opened``; it never reaches into another
-widget; every act goes through ``project/operations.py`` in a job.
+widget; every act goes through ``project/operations.py`` in a job; nothing here reads
+``Project.store``.
 """

@@ -33,7 +33,7 @@ from .project import files
 from .project.exports import ExportControl
 from .project.import_flow import ImportFlow, is_question_set
 from .project.session import ProjectSession
-from .project.state import DEMO_NAME
+from ..core.project import DEMO_NAME
 from .shelf.control import ShelfControl
 from .shelf.model import ShelfModel
 from .shelf.panel import ShelfPanel
@@ -220,6 +220,7 @@ class App:
         self.engine.switching.connect(
             lambda names: w.status(f"Cancelled {names} to switch the model"))
         s.opened.connect(self._show_state)
+        self.engine.settings_edited.connect(s.save_settings)
         s.busy = lambda: "A grade run is in progress." if self.grading.running else ""
         self.suggest.load_requested.connect(self.shelf.load_into_editor)
         self.suggest.status.connect(w.status)
@@ -235,7 +236,7 @@ class App:
         self.compare.enabled_changed.connect(self.update_actions)
         w.accepts_drop = lambda p: is_question_set(p) or p.endswith(PROJECT_SUFFIX)
         w.file_dropped.connect(self._dropped)
-        w.closing_hooks += [self.session.save_draft, self.grading.cancel,
+        w.closing_hooks += [self.engine.commit_settings, self.session.save_draft, self.grading.cancel,
                             self.runner.cancel_model_jobs, self.items.close]
         w.closed_hooks.append(self.engine.close_engine)
         self.update_actions()
@@ -261,6 +262,8 @@ class App:
         self.preview.set_items(qset.tuning() if qset else ())
         self.preview.set_wording(state.draft)
         self.shelf_panel.set_editor_text(state.draft.text)
+        self.engine.show_settings(state.settings, state.check.kind == "label"
+                                  and bool(state.check.labels))
         n = len(qset.items) if qset else 0
         self.window.status(
             f"Opened {state.project.path.name}: {n} items, {len(state.shelf)} on the shelf"

@@ -1,4 +1,6 @@
-"""Choosing the engine: the bundled model or a GGUF file, with temperature and max tokens.
+"""Choosing the engine: the bundled model or a GGUF file; and the open project's
+generation settings (temperature, max tokens, how label answers are found), which are the
+project's own ``ProjectSettings``, shared with the CLI so both fronts share cached answers.
 
 Loading a model is a job on the model lane: switching first cancels the model work running
 or waiting and starts once it has stopped. A file that cannot be loaded gets a dialog
@@ -11,15 +13,20 @@ import threading
 from pathlib import Path
 from typing import Callable
 
-from PySide6.QtCore import QSettings, Qt, Signal
+from PySide6.QtCore import QSettings, Qt, QTimer, Signal
 from PySide6.QtWidgets import (QComboBox, QDoubleSpinBox, QFileDialog, QHBoxLayout, QLabel,
                                QPushButton, QSizePolicy, QSpinBox, QWidget)
 
-from ..core.engines.base import EngineError, Params
+from ..core.engines.base import EngineError
+from ..core.project import ProjectSettings
 from .jobs import JobRunner
 
 BUNDLED = ""  # the combo's data for the bundled model
-DEFAULT_MAX_TOKENS = 48
+SETTINGS_SAVE_MS = 600  # a setting is saved this long after the last change
+ANSWER_MODES = (("score", "Answers: score the labels",
+                 "The model ranks each allowed label; the most likely one is its answer"),
+                ("generate", "Answers: let the model write",
+                 "The model writes its answer; the label is found in the text"))
 
 
 def open_local_engine(path: str | None):
@@ -64,9 +71,11 @@ class EngineHandle:
 
 class EngineBar(QWidget):
     """Signals: ``engine_ready(EngineHandle)``; ``engine_failed(str)`` with a message that
-    names the problem and says which engine stays in use."""
+    names the problem and says which engine stays in use; ``settings_edited(ProjectSettings)``
+    when the user changed a generation setting (the session saves it to the project)."""
 
     engine_ready = Signal(object)
+    settings_edited = Signal(object)
     engine_failed = Signal(str)
     switching = Signal(str)  # names the model work cancelled to switch engines
 
@@ -96,22 +105,31 @@ class EngineBar(QWidget):
         self.browse.setToolTip("Use a GGUF model file of your own")
         self.browse.clicked.connect(self.choose_file)
 
+        self._settings = ProjectSettings()
         self.temperature = QDoubleSpinBox()
         self.temperature.setRange(0.0, 2.0)
         self.temperature.setSingleStep(0.1)
         self.temperature.setDecimals(2)
-        self.temperature.setValue(float(settings.value("engine/temperature", 0.0)))
         self.temperature.setAccessibleName("Temperature")
-        self.temperature.setToolTip("0 gives the same answer every time; higher varies more")
+        self.temperature.setToolTip("0 gives the same answer every time; higher varies more "
+                                    "(saved in the project)")
         self.max_tokens = QSpinBox()
         self.max_tokens.setRange(1, 4096)
-        self.max_tokens.setValue(int(settings.value("engine/max_tokens", DEFAULT_MAX_TOKENS)))
         self.max_tokens.setAccessibleName("Max tokens per answer")
-        self.max_tokens.setToolTip("The longest answer the model may give, in tokens")
-        self.temperature.valueChanged.connect(
-            lambda v: self.settings.setValue("engine/temperature", v))
-        self.max_tokens.valueChanged.connect(
-            lambda v: self.settings.setValue("engine/max_tokens", v))
+        self.max_tokens.setToolTip("The longest answer the model may give, in tokens "
+                                   "(saved in the project)")
+        self.answers = QComboBox()
+        self.answers.setAccessibleName("How answers are found")
+        for mode, text, tip in ANSWER_MODES:
+            self.answers.addItem(text, mode)
+            self.answers.setItemData(self.answers.count() - 1, tip,
+                                     Qt.ItemDataRole.ToolTipRole)
+        self._save_timer = QTimer(self, singleShot=True, interval=SETTINGS_SAVE_MS)
+        self._save_timer.timeout.connect(self.commit_settings)
+        self.show_settings(self._settings, label_check=True)
+        self.temperature.valueChanged.connect(lambda _v: self._save_timer.start())
+        self.max_tokens.valueChanged.connect(lambda _v: self._save_timer.start())
+        self.answers.activated.connect(lambda _i: self.commit_settings())
 
         self.status = QLabel("no engine yet")
         self.status.setAccessibleName("Engine status")
@@ -133,12 +151,44 @@ class EngineBar(QWidget):
         m_label.setBuddy(self.max_tokens)
         layout.addWidget(m_label)
         layout.addWidget(self.max_tokens)
+        layout.addWidget(self.answers)
         layout.addSpacing(10)
         layout.addWidget(self.status)
 
     # -- choosing ------------------------------------------------------------------------
-    def params(self) -> Params:
-        return Params(max_tokens=self.max_tokens.value(), temperature=self.temperature.value())
+    # -- the project's generation settings ------------------------------------------------
+    def show_settings(self, settings: ProjectSettings, label_check: bool) -> None:
+        """Show an opened project's settings (nothing is saved). Scoring the labels needs a
+        label check; with another check the model always writes its answer."""
+        self._save_timer.stop()
+        self._settings = settings
+        for widget in (self.temperature, self.max_tokens, self.answers):
+            widget.blockSignals(True)
+        self.temperature.setValue(float(settings.temperature))
+        self.max_tokens.setValue(int(settings.max_tokens))
+        mode = settings.answer_mode if label_check else "generate"
+        self.answers.setCurrentIndex(max(0, self.answers.findData(mode)))
+        for widget in (self.temperature, self.max_tokens, self.answers):
+            widget.blockSignals(False)
+        self.answers.setEnabled(label_check)
+        self.answers.setToolTip(
+            "How the model's answer is found (saved in the project)" if label_check else
+            "Only a label check can score the labels: here the model writes its answer")
+
+    def project_settings(self) -> ProjectSettings:
+        """The settings to grade with now: the project's, with the bar's current values."""
+        mode = self.answers.currentData() if self.answers.isEnabled() else None
+        return self._settings.override(max_tokens=self.max_tokens.value(),
+                                       temperature=round(self.temperature.value(), 2),
+                                       answer_mode=mode)
+
+    def commit_settings(self) -> None:
+        """Send the edited settings on (at once; edits of a spin box are gathered first)."""
+        self._save_timer.stop()
+        settings = self.project_settings()
+        if settings != self._settings:
+            self._settings = settings
+            self.settings_edited.emit(settings)
 
     def load_remembered(self) -> None:
         """Load the engine chosen last time (the bundled model at first)."""

@@ -16,7 +16,7 @@ from ..grading import Grader, Plan, RunOutcome, select_items
 from ..records import ShelfEntry
 from ..settings import ProjectSettings
 from ..sets import Item
-from ..views import SPLIT_WORDS, ConfirmResult, GradeResult
+from ..views import SPLIT_WORDS, ConfirmResult, GradeResult, ResumeResult
 from ..wording import Wording
 
 GRADED = Changes(shelf=True, runs=True, marks=True)
@@ -138,7 +138,7 @@ class GradingOps:
         return Done(comparison, changes)
 
     def resume(self, engine, run_id: int | None = None, *, on_event: Listener | None = None,
-               cancel: threading.Event | None = None) -> Done[RunOutcome]:
+               cancel: threading.Event | None = None) -> Done[ResumeResult]:
         """Finish an interrupted grade run (default: the latest) as a new run; the items it
         had graded come back from the cache. ValueError when it cannot be resumed."""
         from ..resume import resume_run, unfinished_runs
@@ -152,7 +152,7 @@ class GradingOps:
         on_mark = (lambda mark, prog: on_event(Marked(mark, prog))) if on_event else None
         outcome = resume_run(self.store, engine, run_id, on_mark=on_mark, cancel=cancel)
         _finish(on_event, outcome.status, began)
-        return Done(outcome, GRADED)
+        return Done(ResumeResult(run_id, outcome), GRADED)
 
     def interrupted_note(self) -> str | None:
         """One line on the grade runs found interrupted when this project was opened."""

@@ -20,7 +20,7 @@ from ..jobs import Job, JobRunner
 from ..project import operations
 from ..project.operations import EDITOR
 from ..project.session import ProjectSession
-from ..project.state import SPLIT_WORDS
+from ...core.project import SPLIT_WORDS
 from ..shelf.model import ShelfModel
 from ..shelf.panel import ShelfPanel
 from .chart import ProgressChart
@@ -202,11 +202,11 @@ class CompareControl(QObject):
         if self.job is not None or self.session.qset is None:
             return None
         project, handle = self.session.project, self.engine.handle
-        params, editor = self.engine.params(), self.editor_wording()
+        settings, editor = self.engine.project_settings(), self.editor_wording()
         self.status(f"Comparing on the {SPLIT_WORDS[split]}…")
         return self._submit(
             lambda ctx: operations.compare(project, handle, a=a, b=b, split=split,
-                                           editor=editor, params=params,
+                                           editor=editor, settings=settings,
                                            cancel=ctx.cancel_event, on_event=ctx.report),
             lambda comparison: self._show_comparison(comparison, split), "compare",
             "The comparison did not finish")
@@ -234,11 +234,11 @@ class CompareControl(QObject):
             self.show_problem("The model has not loaded yet",
                               "Wait for it to load, then confirm again.")
             return None
-        project, params = self.session.project, self.engine.params()
+        project, settings = self.session.project, self.engine.project_settings()
         label = self.shelf.entry(wid).label
         self.status(f"Confirming {label} on held-out items…")
         return self._submit(
-            lambda ctx: operations.confirm(project, handle, wording_id=wid, params=params,
+            lambda ctx: operations.confirm(project, handle, wording_id=wid, settings=settings,
                                            cancel=ctx.cancel_event, on_event=ctx.report),
             lambda _run: self._confirmed(wid, label), f"confirm {label}",
             "The confirmation did not finish")

@@ -18,7 +18,7 @@ from PySide6.QtWidgets import (QComboBox, QDialog, QDialogButtonBox, QFormLayout
 from ...core.compare import Comparison, ItemPair
 from ...core.records import Mark
 from ..grading.item_view import _selectable, _shown, _text_box, _titled, result_text
-from ..project.state import SPLIT_WORDS
+from ...core.project import SPLIT_WORDS
 
 PAIR_ROLE = Qt.ItemDataRole.UserRole + 1
 

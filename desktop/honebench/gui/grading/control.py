@@ -13,7 +13,9 @@ from ...core.wording import Wording
 from ..jobs import Job, JobRunner
 from ..project import operations
 from ..project.session import ProjectSession
-from ..project.state import SPLIT_WORDS, GradeResult, run_caption
+from ...core.project import SPLIT_WORDS
+from ...core.views import GradeResult
+from ..project.state import run_caption
 from .sheet import GradeSheetPanel
 
 
@@ -85,9 +87,9 @@ class GradeControl(QObject):
             self.sheet.waiting("the model is still loading")
             self.running_changed.emit(True)
             return None
-        project, params = state.project, self.engine.params()
+        project, settings = state.project, self.engine.project_settings()
         self.job = self.runner.submit(
-            lambda ctx: operations.grade(project, handle, wording=wording, params=params,
+            lambda ctx: operations.grade(project, handle, wording=wording, settings=settings,
                                          split="tuning", limit=limit,
                                          cancel=ctx.cancel_event, on_event=ctx.report),
             progress=self._on_event, done=self._on_done, failed=self._on_failed,

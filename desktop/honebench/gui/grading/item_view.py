@@ -172,8 +172,8 @@ class ItemView(QDialog):
         self.result.setText(result_text(mark))
         self.why.setText(_shown(mark.why, "(no why recorded)"))
         self.expected.setText(_shown(item.expected))
-        self.extracted.setText(extracted if extracted is not None
-                               else _shown(mark.extracted, "(none)"))
+        self.extracted.setText(extracted if extracted is not None else _shown(
+            (mark.choice_text or mark.extracted) if mark.extracted.strip() else "", "(none)"))
         self.cost.setText(cost_text(mark))
         self.inputs.setHtml(self._fields_html(item.fields))
         self.output.setPlainText(mark.output if mark.output else NO_OUTPUT)

@@ -176,11 +176,12 @@ class MarksModel(ColumnsModel):
         self.endInsertRows()
 
     def extracted_text(self, mark: Mark) -> str:
-        """The extracted answer, or "(none)" when nothing (no label) was extracted."""
+        """The extracted answer, or "(none)" when nothing (no label) was extracted. A scored
+        label shows its confidence and the runner-up: "timetable 0.61, next refund 0.22"."""
         text = mark.extracted.strip()
         if not text or (self._labels is not None and text not in self._labels):
             return NONE
-        return text
+        return mark.choice_text or text
 
     def marks(self) -> list[Mark]:
         return self._marks

@@ -93,7 +93,7 @@ class GradeSheetPanel(QWidget):
         hh.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         hh.setStretchLastSection(False)
         em = self.fontMetrics().horizontalAdvance("m")
-        widths = {RESULT: 7, ID: 9, EXPECTED: 10, EXTRACTED: 10, WHY: 30, TOKENS: 5, SECONDS: 5}
+        widths = {RESULT: 6, ID: 8, EXPECTED: 9, EXTRACTED: 24, WHY: 22, TOKENS: 5, SECONDS: 5}
         for col, w in widths.items():
             self.table.setColumnWidth(col, int(w * em))
         hh.setSectionResizeMode(WHY, QHeaderView.ResizeMode.Stretch)

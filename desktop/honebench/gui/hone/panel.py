@@ -209,8 +209,8 @@ class HonePanel(QWidget):
             self.problem.emit("No engine yet", "The model is still loading (or did not load); "
                               "wait for “ready” in the engine bar, then try again.")
             return None
-        project, strategy, budget, params = (state.project, self.strategy.currentData(),
-                                             self.budget(), self.engine.params())
+        project, strategy, budget, settings = (state.project, self.strategy.currentData(),
+                                             self.budget(), self.engine.project_settings())
         self.rounds, self.outcome = [], None
         self.table.setRowCount(0)
         self.chart.clear()
@@ -219,7 +219,7 @@ class HonePanel(QWidget):
         self.settings_toggle.setChecked(False)  # room for the table and the chart
         self.job = self.runner.submit(
             lambda ctx: operations.hone(project, handle, wording=wording, strategy=strategy,
-                                        budget=budget, params=params,
+                                        budget=budget, settings=settings,
                                         cancel=ctx.cancel_event, on_event=ctx.report),
             done=self._finished, failed=self._failed, progress=self._progress,
             cancelled=lambda: self._finished(None), name="auto-hone",

@@ -13,7 +13,7 @@ from ...core.checks import CheckSpec
 from ...core.set_reading import SUPPORTED
 from ...core.sets import ColumnMapping
 from . import operations
-from .state import preview_set
+from ...core.project import preview_set
 from ..jobs import Job, JobRunner
 
 FILE_FILTER = ("Question sets (" + " ".join(f"*{ext}" for ext in SUPPORTED) + ");;"

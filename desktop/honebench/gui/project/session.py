@@ -8,23 +8,25 @@ from typing import Callable
 
 from PySide6.QtCore import QObject, QSettings, QTimer, Signal
 
+from ...core.project import Project, ProjectSettings
 from ...core.recipes import recipe_for
 from ...core.wording import Wording
 from ..jobs import Job, JobRunner
 from . import files, operations
-from .state import ProjectState, build_demo_project, load_state
+from .state import ProjectState, load_state
 
 DRAFT_SAVE_MS = 1000
 
 
 class ProjectSession(QObject):
     """Signals: ``opened(ProjectState)`` when a project (or a newly imported set) is shown,
-    ``open_failed(str)``, ``draft_saved(Wording)``, ``import_requested(path, is_sample)``
+    ``open_failed(str)``, ``draft_saved(Wording)``, ``settings_saved(ProjectSettings)``, ``import_requested(path, is_sample)``
     after opening with a question set to import."""
 
     opened = Signal(object)
     open_failed = Signal(str)
     draft_saved = Signal(object)
+    settings_saved = Signal(object)
     import_requested = Signal(str, bool)
 
     def __init__(self, runner: JobRunner, settings: QSettings,
@@ -56,9 +58,8 @@ class ProjectSession(QObject):
         path = Path(path)
 
         def work(ctx):
-            if demo and not path.exists():
-                build_demo_project(path)
-            return load_state(path), bool(then_import and recipe_for(then_import))
+            project = Project.open_demo(path).value if demo else None
+            return load_state(path, project), bool(then_import and recipe_for(then_import))
 
         def done(result):
             state, sample = result
@@ -108,3 +109,15 @@ class ProjectSession(QObject):
         self._draft = None
         if self.state is not None:
             self.state.draft = wording
+
+    # -- the project's settings ----------------------------------------------------------
+    def save_settings(self, settings: ProjectSettings) -> Job | None:
+        """Make ``settings`` (max tokens, temperature, seed, answer mode) the project's own,
+        shared with the CLI, in a job; the runner then emits project_changed(settings)."""
+        if self.state is None or settings == self.state.settings:
+            return None
+        project, self.state.settings = self.state.project, settings
+        return self.runner.submit(
+            lambda ctx: operations.set_settings(project, settings=settings),
+            done=self.settings_saved.emit, name="save the settings",
+            failed=lambda message: self.show_problem("The settings were not saved", message))

@@ -201,11 +201,11 @@ class SuggestPanel(QWidget):
                               "wait for “ready” in the engine bar, then try again.")
             return None
         project, strategy, count = state.project, self.strategy.currentData(), self.count.value()
-        params, source = self.engine.params(), self._source
+        settings, source = self.engine.project_settings(), self._source
 
         def work(ctx):
             return operations.suggest(project, handle, strategy=strategy, count=count,
-                                      base=base, other_id=other_id, params=params,
+                                      base=base, other_id=other_id, settings=settings,
                                       cancel=ctx.cancel_event, on_event=ctx.report)
 
         self.outcome = None
