@@ -40,6 +40,12 @@ class BatchDecoder:
     # could differ from the same item run alone. Label scoring always packs (a label choice
     # rarely moves, and the speed matters most there).
     pack = False
+    # Cancel is checked between llama_decode calls, never inside one: llama.cpp's abort
+    # callback would be a Python function called from C in the middle of a decode, and a
+    # crash ("deallocating None") was seen while one was installed. A long prompt is
+    # therefore evaluated ``chunk`` tokens per call, so cancel still lands within one
+    # short decode.
+    chunk = 128
 
     def __init__(self, llm, *, n_ctx: int, n_seq: int, n_threads: int,
                  cancelled: Callable[[], bool]):
@@ -59,12 +65,6 @@ class BatchDecoder:
         self.ctx = llama_cpp.llama_init_from_model(llm._model.model, params)
         if not self.ctx:
             raise RuntimeError("llama.cpp could not make a decoding context")
-        # The abort check runs inside llama.cpp many times per decode and costs about a
-        # fifth of the speed, so it is on only while a prompt is evaluated; generation
-        # steps are short and cancel is checked between them.
-        self._abort = llama_cpp.ggml_abort_callback(lambda _d: bool(self.cancelled()))
-        self._no_abort = llama_cpp.ggml_abort_callback()
-        self._abort_on = False
         self.mem = llama_cpp.llama_get_memory(self.ctx)
         self.batch = llama_cpp.llama_batch_init(512, 0, self.n_seq_max)
         vocab = llama_cpp.llama_model_get_vocab(llm._model.model)
@@ -82,18 +82,18 @@ class BatchDecoder:
     # -- low-level helpers ---------------------------------------------------------------
     def decode_rows(self, entries: list[tuple[int, int, int, bool]],
                     abortable: bool = True) -> list[np.ndarray]:
-        """Decode (token, position, sequence, wants_logits) entries, 512 per call; a copy of
-        the logits of every entry that wants them, in order."""
-        if abortable != self._abort_on:
-            self.lib.llama_set_abort_callback(
-                self.ctx, self._abort if abortable else self._no_abort, None)
-            self._abort_on = abortable
+        """Decode (token, position, sequence, wants_logits) entries; a copy of the logits of
+        every entry that wants them, in order. With ``abortable`` the entries go in
+        ``chunk``-token calls and cancel is checked before each (RuntimeError when set)."""
+        step = self.chunk if abortable else 512
         rows = []
-        for start in range(0, len(entries), 512):
+        for start in range(0, len(entries), step):
+            if abortable and self.cancelled():
+                raise RuntimeError("cancelled")
             b = self.batch
             b.n_tokens = 0
             wanted = []
-            for i, (tok, pos, seq, logits) in enumerate(entries[start:start + 512]):
+            for i, (tok, pos, seq, logits) in enumerate(entries[start:start + step]):
                 b.token[i], b.pos[i], b.n_seq_id[i] = tok, pos, 1
                 b.seq_id[i][0], b.logits[i] = seq, logits
                 b.n_tokens = i + 1

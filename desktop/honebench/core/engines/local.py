@@ -8,6 +8,7 @@ runs on the caller's thread and does not wait behind a running grade.
 """
 from __future__ import annotations
 
+import atexit
 import contextlib
 import ctypes
 import io
@@ -48,6 +49,10 @@ def _install_log_callback() -> None:
 
     llama_cpp.llama_log_set(_on_log, ctypes.c_void_p(0))
     _install_log_callback.keep = _on_log  # the C side holds only a pointer
+    # At interpreter exit, models and contexts are freed during garbage collection and
+    # llama.cpp logs while freeing; hand logging back to llama.cpp's own (C) logger first,
+    # so no Python callback is called from C while the interpreter is being torn down.
+    atexit.register(llama_cpp.llama_log_set, llama_cpp.llama_log_callback(), ctypes.c_void_p(0))
 
 
 class _Owner(threading.Thread):
@@ -131,8 +136,6 @@ class LocalEngine:
             ) from None
         llm.verbose = False  # later chatter off; load-time chatter went to the buffer
         log.debug(chatter.getvalue())
-        self._abort_cb = llama_cpp.ggml_abort_callback(lambda _data: self._cancel.is_set())
-        llama_cpp.llama_set_abort_callback(llm._ctx.ctx, self._abort_cb, None)
         meta = llm.metadata
         eos = llm._model.token_get_text(llm.token_eos()) if llm.token_eos() != -1 else ""
         bos = llm._model.token_get_text(llm.token_bos()) if llm.token_bos() != -1 else ""
