@@ -14,6 +14,8 @@ import time
 
 import pytest
 
+from honebench.core.calibration import CONTENT_FREE
+
 from tests.test_cli import ROOT, honebench
 
 pytestmark = pytest.mark.model
@@ -61,7 +63,9 @@ def test_kill_9_mid_grade_loses_nothing_and_resumes_from_the_cache(tmp_path, sam
     conn = sqlite3.connect(project)
     assert conn.execute("PRAGMA integrity_check").fetchall() == [("ok",)]
     status, = conn.execute("SELECT status FROM runs").fetchone()
-    cached = conn.execute("SELECT COUNT(*) FROM completion_cache").fetchone()[0]
+    # the calibrated label scoring first caches one content-free prompt per filler
+    cached = (conn.execute("SELECT COUNT(*) FROM completion_cache").fetchone()[0]
+              - len(CONTENT_FREE))
     conn.close()
     after = _marks(project)
     assert status == "running"  # as the killed process left it
