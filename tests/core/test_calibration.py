@@ -10,23 +10,13 @@ import pytest
 from honebench.core.calibration import CONTENT_FREE, calibrated_shares
 from honebench.core.engines.base import Params, Request, Result
 from honebench.core.grading import Grader, shared_prefix_chars
-from honebench.core.project import Project
 from honebench.core.wording import Wording, build_prompt
 from tests.fakes import FakeEngine
 
-ROUTING = "passenger_desk_routing.csv"
 LABELS = ("refund", "booking_change", "lost_property", "accessibility", "timetable")
 # The fake's label prior: what it gives any prompt before looking at the message.
 PRIOR = {"refund": 0.5, "booking_change": 0.3, "lost_property": 0.1, "accessibility": 0.05,
          "timetable": 0.05}
-
-
-@pytest.fixture
-def project(tmp_path, sample_dir):
-    proj = Project(tmp_path / "task.hone")
-    proj.import_set(sample_dir / ROUTING)
-    yield proj
-    proj.close()
 
 
 class BiasedScorer(FakeEngine):

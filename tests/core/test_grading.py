@@ -10,19 +10,8 @@ import pytest
 from honebench.core.checks import CheckSpec
 from honebench.core.engines.base import Params, Result
 from honebench.core.grading import Grader, cache_key, item_seed
-from honebench.core.project import Project
 from honebench.core.wording import Wording
 from tests.fakes import FakeEngine
-
-ROUTING = "passenger_desk_routing.csv"
-
-
-@pytest.fixture
-def project(tmp_path, sample_dir):
-    proj = Project(tmp_path / "task.hone")
-    proj.import_set(sample_dir / ROUTING)
-    yield proj
-    proj.close()
 
 
 def _grade(project, engine, **kw):

@@ -10,7 +10,7 @@ from typing import TYPE_CHECKING
 
 import pandas as pd
 
-from .set_reading import Problem, quote
+from .set_errors import Problem, quote
 
 if TYPE_CHECKING:  # annotations only: sets imports this module
     from .sets import ColumnMapping
