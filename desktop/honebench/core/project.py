@@ -263,6 +263,13 @@ class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
                 if run.status == "running" and run.split == split
                 and (set_id is None or run.set_id == set_id)]
 
+    def interrupted_runs(self) -> list:
+        """The grade runs that stopped before finishing and can be resumed, oldest first
+        (``core.resume.Unfinished``: the run and how many of its items were graded)."""
+        from .resume import unfinished_runs
+
+        return [u for u in unfinished_runs(self.store)]
+
     def last_run(self) -> RunView | None:
         """The newest grade run on the current set that is not still running."""
         if not self.has_set():

@@ -140,6 +140,24 @@ def compare(project, engine, *, a: int, b: int, split: str, editor: Wording,
                                on_event=on_event, cancel=cancel)
 
 
+def resume(project, engine, *, run_id: int | None = None, cancel=None,
+           on_event: Listener = _quiet) -> Done:
+    """Finish an interrupted grade run (default: the latest) as a new run; the items it had
+    graded come back from the cache. Returns Done[Resumed]: the core's ResumeResult, the
+    project's newest run as the grade sheet shows it, and the runs still interrupted."""
+    with engine as model:
+        done = project.resume(model, run_id, on_event=on_event, cancel=cancel)
+    return Done(Resumed(done.value, project.last_run(), project.interrupted_runs()),
+                done.changes)
+
+
+@dataclass(frozen=True)
+class Resumed:
+    result: Any  # core.views.ResumeResult
+    view: Any  # core.views.RunView of the newest run, or None
+    interrupted: list
+
+
 # -- suggestions and auto-hone -----------------------------------------------------------
 def suggest(project, engine, *, strategy: str, count: int, base: Wording,
             other_id: int | None, settings: ProjectSettings | None = None, cancel=None,
