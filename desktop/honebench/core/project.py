@@ -70,12 +70,14 @@ def column_mapping(set_path: str | Path, *, inputs=None, expected: str | None = 
                          split=guessed.split)
 
 
-def preview_set(set_path: str | Path):
+def preview_set(set_path: str | Path, *, sheet: str | int | None = None,
+                skip_rows: int = 0):
     """What the import dialog shows before anything is stored: (first rows, guessed mapping
-    or None, problems found, the sample recipe's check or None). Writes nothing."""
+    or None, problems found, the sample recipe's check or None). ``sheet`` and
+    ``skip_rows`` as for ``import_set``. Writes nothing."""
     from .sets import preview
 
-    head, mapping, problems = preview(set_path)
+    head, mapping, problems = preview(set_path, sheet=sheet, skip_rows=skip_rows)
     recipe = recipe_for(set_path)
     return head, mapping, problems, CheckSpec.from_dict(recipe["check"]) if recipe else None
 
