@@ -270,11 +270,10 @@ class App:
         self.engine.show_settings(state.settings, state.check.kind == "label"
                                   and bool(state.check.labels))
         n = len(qset.items) if qset else 0
-        note = interrupted_text(state)
-        self.window.status(note or
-            f"Opened {state.project.path.name}: {n} items, {len(state.shelf)} on the shelf"
-            if qset else "No question set yet: File › Import question set…, or drop a file "
-                         "on the window")
+        opened = (f"Opened {state.project.path.name}: {n} items, {len(state.shelf)} on the "
+                  "shelf" if qset else "No question set yet: File › Import question set…, "
+                  "or drop a file on the window")
+        self.window.status(interrupted_text(state) or opened)
         self.update_actions()
 
     def update_actions(self) -> None:
