@@ -70,12 +70,14 @@ def column_mapping(set_path: str | Path, *, inputs=None, expected: str | None = 
                          split=guessed.split)
 
 
-def preview_set(set_path: str | Path):
+def preview_set(set_path: str | Path, *, sheet: str | int | None = None,
+                skip_rows: int = 0):
     """What the import dialog shows before anything is stored: (first rows, guessed mapping
-    or None, problems found, the sample recipe's check or None). Writes nothing."""
+    or None, problems found, the sample recipe's check or None). ``sheet`` and
+    ``skip_rows`` as for ``import_set``. Writes nothing."""
     from .sets import preview
 
-    head, mapping, problems = preview(set_path)
+    head, mapping, problems = preview(set_path, sheet=sheet, skip_rows=skip_rows)
     recipe = recipe_for(set_path)
     return head, mapping, problems, CheckSpec.from_dict(recipe["check"]) if recipe else None
 
@@ -262,6 +264,13 @@ class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
         return [(run, *self.store.run_counts(run.id)) for run in self.store.runs()
                 if run.status == "running" and run.split == split
                 and (set_id is None or run.set_id == set_id)]
+
+    def interrupted_runs(self) -> list:
+        """The grade runs that stopped before finishing and can be resumed, oldest first
+        (``core.resume.Unfinished``: the run and how many of its items were graded)."""
+        from .resume import unfinished_runs
+
+        return [u for u in unfinished_runs(self.store)]
 
     def last_run(self) -> RunView | None:
         """The newest grade run on the current set that is not still running."""

@@ -33,6 +33,7 @@ from .project import files
 from .project.exports import ExportControl
 from .project.import_flow import ImportFlow, is_question_set
 from .project.session import ProjectSession
+from .project.state import interrupted_text
 from ..core.project import DEMO_NAME
 from .shelf.control import ShelfControl
 from .shelf.model import ShelfModel
@@ -171,6 +172,10 @@ class App:
             "&Keep on the shelf", self.shelf.keep, "Ctrl+K",
             "Put the editor's wording on the shelf as the next version (Ctrl+K)", "keep",
             "Keep"), toolbar="grading")
+        self.resume_action = w.add_action("run", act(
+            "&Resume interrupted run", self.grading.resume, "",
+            "Finish the latest grade run that stopped before finishing; the items it graded "
+            "come from the cache"))
         w.add_separator("run")
         self.suggest_action = w.add_action("run", act(
             "Suggest &variants…", lambda: self._focus_dock("suggest", self.suggest.strategy),
@@ -265,10 +270,10 @@ class App:
         self.engine.show_settings(state.settings, state.check.kind == "label"
                                   and bool(state.check.labels))
         n = len(qset.items) if qset else 0
-        self.window.status(
-            f"Opened {state.project.path.name}: {n} items, {len(state.shelf)} on the shelf"
-            if qset else "No question set yet: File › Import question set…, or drop a file "
-                         "on the window")
+        opened = (f"Opened {state.project.path.name}: {n} items, {len(state.shelf)} on the "
+                  "shelf" if qset else "No question set yet: File › Import question set…, "
+                  "or drop a file on the window")
+        self.window.status(interrupted_text(state) or opened)
         self.update_actions()
 
     def update_actions(self) -> None:
@@ -277,6 +282,8 @@ class App:
         self.grade_action.setEnabled(not running and state is not None
                                      and state.qset is not None and has_text)
         self.cancel_action.setEnabled(running)
+        self.resume_action.setEnabled(not running and state is not None
+                                      and bool(state.interrupted))
         self.keep_action.setEnabled(state is not None and has_text)
         self.import_action.setEnabled(not running and state is not None)
         has_set = state is not None and state.qset is not None

@@ -15,7 +15,7 @@ from ..project import operations
 from ..project.session import ProjectSession
 from ...core.project import SPLIT_WORDS
 from ...core.views import GradeResult
-from ..project.state import run_caption
+from ..project.state import interrupted_text, run_caption
 from .sheet import GradeSheetPanel
 
 
@@ -62,7 +62,7 @@ class GradeControl(QObject):
         caption = (run_caption(state.last_run, len(state.marks)) if state.last_run
                    else "Grade sheet · no grade run yet")
         self.sheet.show_marks(state.marks, state.expected, caption)
-        self.sheet.show_summary(state.summary)
+        self.sheet.show_summary(state.summary, interrupted_text(state))
 
     def grade(self, wording: Wording, limit: int | None = None) -> Job | None:
         """Grade ``wording`` over the tuning items in a job on the model lane."""
@@ -98,6 +98,50 @@ class GradeControl(QObject):
         self.running_changed.emit(True)
         self.started.emit(self.job)
         return self.job
+
+    def resume(self) -> Job | None:
+        """Finish the latest interrupted grade run as a new run, in a job on the model lane;
+        marks stream into the sheet (those it had come from the cache)."""
+        state = self.session.state
+        if self.job is not None or state is None or not state.interrupted:
+            return None
+        handle = self.engine.handle
+        if handle is None:
+            self.show_problem("The model is still loading",
+                              "Resume the interrupted run once the model has loaded.")
+            return None
+        latest = state.interrupted[-1].run
+        self.sheet.start_run(0, state.expected,
+                             f"Resuming run {latest.id} (graded items come from the cache)…")
+        self.status(f"Resuming run {latest.id}…")
+        project = state.project
+        self.job = self.runner.submit(
+            lambda ctx: operations.resume(project, handle, run_id=latest.id,
+                                          cancel=ctx.cancel_event, on_event=ctx.report),
+            progress=self._on_event, done=self._on_resumed, failed=self._on_failed,
+            cancelled=lambda: self._on_failed("cancelled before it started"),
+            name="resuming a grade run", uses_model=True)
+        self.running_changed.emit(True)
+        self.started.emit(self.job)
+        return self.job
+
+    def _on_resumed(self, resumed) -> None:
+        self.job = None
+        state, view = self.session.state, resumed.view
+        if state is not None:
+            state.interrupted = resumed.interrupted
+            if view is not None:
+                state.last_run, state.marks, state.summary = view.run, view.marks, view.summary
+        outcome = resumed.result.outcome
+        self.sheet.finish_run(f"Resumed run {resumed.result.resumed}")
+        if view is not None:
+            self.sheet.show_marks(view.marks, state.expected if state else {},
+                                  run_caption(view.run, len(view.marks)))
+            self.sheet.show_summary(view.summary,
+                                    interrupted_text(state) if state else "")
+        self.status(f"Run {resumed.result.resumed} resumed as run {outcome.run_id}: "
+                    f"{outcome.status}, {outcome.model_calls} items asked of the model")
+        self.running_changed.emit(False)
 
     def cancel(self) -> None:
         if self.job is not None:

@@ -13,7 +13,6 @@ from ...core.checks import CheckSpec
 from ...core.set_reading import SUPPORTED
 from ...core.sets import ColumnMapping
 from . import operations
-from ...core.project import preview_set
 from ..jobs import Job, JobRunner
 
 FILE_FILTER = ("Question sets (" + " ".join(f"*{ext}" for ext in SUPPORTED) + ");;"
@@ -51,31 +50,53 @@ class ImportFlow(QObject):
             self.start(path)
 
     def start(self, path: str) -> Job:
-        """Preview ``path`` in a job, then show the mapping dialog."""
+        """Preview ``path`` (and list a workbook's sheets) in a job, then show the mapping
+        dialog."""
         return self.runner.submit(
-            lambda ctx: preview_set(path),
-            done=lambda result: self._show_dialog(path, *result),
+            lambda ctx: operations.preview(path=path, with_sheets=True).value,
+            done=lambda result: self._show_dialog(path, result),
             failed=lambda msg: self._problem(msg), name="read the question set")
 
-    def _show_dialog(self, path: str, head, guess, problems, recipe_check) -> None:
+    def _show_dialog(self, path: str, preview) -> None:
         from .mapping_dialog import MappingDialog
 
         state = self.session.state
-        check = recipe_check or (state.check if state else None) or CheckSpec()
-        dialog = MappingDialog(path, head, guess, problems, check, parent=self.parent_widget)
+        check = preview.recipe_check or (state.check if state else None) or CheckSpec()
+        dialog = MappingDialog(path, preview.head, preview.guess, preview.problems, check,
+                               parent=self.parent_widget, sheets=preview.sheets)
+        dialog.reread_requested.connect(
+            lambda sheet, skip: self._reread(dialog, path, sheet, skip))
         self.dialog = dialog
         try:
             if dialog.exec() != QDialog.DialogCode.Accepted:
                 return
             seed, fraction = dialog.split_settings()
-            self.run_import(path, dialog.mapping(), dialog.check_spec(), seed, fraction)
+            sheet, skip_rows = dialog.reading()
+            self.run_import(path, dialog.mapping(), dialog.check_spec(), seed, fraction,
+                            sheet=sheet, skip_rows=skip_rows)
         finally:
             self.dialog = None
             dialog.deleteLater()
 
+    def _reread(self, dialog, path: str, sheet: str | None, skip_rows: int) -> Job:
+        """Read the file again with another sheet or title rows, in a job; a result that
+        is no longer what the dialog asks for is dropped."""
+        def done(preview) -> None:
+            if self.dialog is dialog and dialog.reading() == (sheet, skip_rows):
+                dialog.show_preview(preview.head, preview.guess, preview.problems)
+
+        def failed(message: str) -> None:
+            if self.dialog is dialog and dialog.reading() == (sheet, skip_rows):
+                dialog.show_read_error(message)
+
+        return self.runner.submit(
+            lambda ctx: operations.preview(path=path, sheet=sheet, skip_rows=skip_rows).value,
+            done=done, failed=failed, name="read the question set again")
+
     def run_import(self, path: str, mapping: ColumnMapping | None = None,
                    check: CheckSpec | None = None, split_seed: int = 0,
-                   held_out_fraction: float = 0.3) -> Job | None:
+                   held_out_fraction: float = 0.3, *, sheet: str | None = None,
+                   skip_rows: int = 0) -> Job | None:
         """Read, validate and store the set in the open project (a job)."""
         project = self.session.project
         if project is None:
@@ -84,7 +105,8 @@ class ImportFlow(QObject):
         return self.runner.submit(
             lambda ctx: operations.import_set(project, path=path, mapping=mapping, check=check,
                                               split_seed=split_seed,
-                                              held_out_fraction=held_out_fraction),
+                                              held_out_fraction=held_out_fraction,
+                                              sheet=sheet, skip_rows=skip_rows),
             done=self._imported, failed=self._problem, name="import the question set")
 
     def _imported(self, state) -> None:

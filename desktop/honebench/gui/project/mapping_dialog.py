@@ -11,7 +11,7 @@ import os
 from dataclasses import replace
 
 import pandas as pd
-from PySide6.QtCore import QAbstractTableModel, QModelIndex, Qt
+from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QDialog, QDialogButtonBox,
                                QDoubleSpinBox, QFormLayout, QGroupBox, QHBoxLayout, QHeaderView,
                                QLabel, QLineEdit, QListWidget, QListWidgetItem, QSpinBox,
@@ -19,8 +19,8 @@ from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QDialog, QDialogBut
 
 from ...core.checks import CHECKS, EXTRACTIONS, CheckSpec
 from ...core.sets import ColumnMapping
+from .reading_options import HeadModel, ReadingOptions
 
-CELL_LIMIT = 80
 CHECK_NOTES = {
     "exact": "exact — the same text, ignoring case, punctuation and articles",
     "label": "label — the closest of a fixed list of labels",
@@ -43,96 +43,48 @@ OPTION_FOR = {  # check kind -> (label, placeholder)
 }
 
 
-class HeadModel(QAbstractTableModel):
-    """The first rows of a file, as read. Row headers are the rows' numbers in the file;
-    column headers also say which role each column has in the current mapping."""
-
-    def __init__(self, head: pd.DataFrame, parent=None):
-        super().__init__(parent)
-        self.head = head
-        self.columns = [str(c) for c in head.columns]
-        self.roles: dict[str, str] = {}
-        self.row_word = head.attrs.get("row_word", "row")
-
-    def set_roles(self, roles: dict[str, str]) -> None:
-        self.roles = roles
-        if self.columns:
-            self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, len(self.columns) - 1)
-
-    def rowCount(self, parent=QModelIndex()) -> int:
-        return 0 if parent.isValid() else len(self.head)
-
-    def columnCount(self, parent=QModelIndex()) -> int:
-        return 0 if parent.isValid() else len(self.columns)
-
-    def data(self, index, role=Qt.ItemDataRole.DisplayRole):
-        if not index.isValid():
-            return None
-        value = self.head.iat[index.row(), index.column()]
-        text = "" if value is None or (isinstance(value, float) and pd.isna(value)) else str(value)
-        if role == Qt.ItemDataRole.DisplayRole:
-            flat = " ".join(text.split())
-            return flat if len(flat) <= CELL_LIMIT else flat[: CELL_LIMIT - 1] + "…"
-        if role == Qt.ItemDataRole.ToolTipRole:
-            return text if len(text) <= 2000 else text[:1999] + "…"
-        return None
-
-    def headerData(self, section, orientation, role=Qt.ItemDataRole.DisplayRole):
-        if orientation == Qt.Orientation.Horizontal:
-            name = self.columns[section]
-            if role == Qt.ItemDataRole.DisplayRole:
-                role_name = self.roles.get(name)
-                return f"{name}\n({role_name})" if role_name else f"{name}\n(not used)"
-            if role == Qt.ItemDataRole.ToolTipRole:
-                return f"column {name!r}" + (f": {self.roles[name]}" if name in self.roles else "")
-            return None
-        if role == Qt.ItemDataRole.DisplayRole:
-            return str(self.head.index[section])
-        if role == Qt.ItemDataRole.ToolTipRole:
-            return f"{self.row_word} {self.head.index[section]} in the file"
-        return None
-
-
 class MappingDialog(QDialog):
-    """Accessors after exec(): ``mapping()``, ``check_spec()``, ``split_settings()``."""
+    """Accessors after exec(): ``mapping()``, ``check_spec()``, ``split_settings()``,
+    ``reading()``. Changing the sheet or the title rows emits ``reread_requested(sheet,
+    skip_rows)``; the owner reads the file again in a job and calls ``show_preview`` (or
+    ``show_read_error``) with the result."""
+
+    reread_requested = Signal(object, int)
 
     def __init__(self, path: str, head: pd.DataFrame, guessed: ColumnMapping | None,
-                 problems: list[str], check: CheckSpec, parent=None):
+                 problems: list[str], check: CheckSpec, parent=None,
+                 sheets: list[str] | None = None):
         super().__init__(parent)
         self.path = path
         self.base_check = check
+        self.read_error, self.rereading = "", False
         self.setWindowTitle(f"Columns of {os.path.basename(path)}")
-        columns = [str(c) for c in head.columns]
 
-        intro = QLabel(f"<b>{os.path.basename(path)}</b>: the first {len(head)} rows as "
-                       "read. Say which columns the model reads and which holds the expected "
-                       "answer.")
-        intro.setWordWrap(True)
-        self.head_model = HeadModel(head, self)
+        self.intro = QLabel()
+        self.intro.setWordWrap(True)
+        self.reading_options = ReadingOptions(sheets)
+        self.reading_options.changed.connect(self._reread)
         self.table = QTableView()
-        self.table.setModel(self.head_model)
         self.table.setAccessibleName("First rows of the file")
         self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
         self.table.setWordWrap(False)
         self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         self.table.horizontalHeader().setStretchLastSection(True)
-        self.table.resizeColumnsToContents()
-        for col in range(len(columns)):
-            self.table.setColumnWidth(col, min(self.table.columnWidth(col) + 12, 380))
-        self._fit_table_height()
 
         self.problems = QLabel()
         self.problems.setWordWrap(True)
         self.problems.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         self.problems.setAccessibleName("Problems found in the file")
-        self._show_problems(problems, guessed is not None)
 
         layout = QVBoxLayout(self)
-        layout.addWidget(intro)
+        top = QHBoxLayout()
+        top.addWidget(self.intro, 1)
+        top.addWidget(self.reading_options)
+        layout.addLayout(top)
         layout.addWidget(self.table, 1)
         layout.addWidget(self.problems)
         groups = QHBoxLayout()
-        groups.addWidget(self._columns_group(columns), 1, Qt.AlignmentFlag.AlignTop)
+        groups.addWidget(self._columns_group(), 1, Qt.AlignmentFlag.AlignTop)
         right = QVBoxLayout()
         right.addWidget(self._split_group())
         right.addWidget(self._check_group(check))
@@ -155,9 +107,67 @@ class MappingDialog(QDialog):
         bottom.addWidget(self.buttons)
         layout.addLayout(bottom)
 
+        self.show_preview(head, guessed, problems)
+        self.resize(900, min(720, self.sizeHint().height() + 20))
+
+    # -- reading the file again ----------------------------------------------------------
+    def show_preview(self, head: pd.DataFrame, guessed: ColumnMapping | None,
+                     problems: list[str]) -> None:
+        """Show the first rows of the file as read now, with its columns offered anew."""
+        self.read_error, self.rereading = "", False
+        columns = [str(c) for c in head.columns]
+        sheet, skip = self.reading()
+        where = f" (sheet {sheet!r})" if sheet is not None else ""
+        name = html.escape(os.path.basename(self.path), quote=False)
+        rows = f"{len(head)} row{'' if len(head) == 1 else 's'}"
+        self.intro.setText(f"<b>{name}</b>{html.escape(where, quote=False)}: the first {rows} "
+                           "as read. Say which columns the model reads and which holds the "
+                           "expected answer.")
+        old = getattr(self, "head_model", None)
+        self.head_model = HeadModel(head, self)
+        self.table.setModel(self.head_model)
+        if old is not None:
+            old.deleteLater()
+        self.table.resizeColumnsToContents()
+        for col in range(len(columns)):
+            self.table.setColumnWidth(col, min(self.table.columnWidth(col) + 12, 380))
+        self._fit_table_height()
+        self.inputs.blockSignals(True)
+        self.inputs.clear()
+        for name in columns:
+            entry = QListWidgetItem(name)
+            entry.setFlags(entry.flags() | Qt.ItemFlag.ItemIsUserCheckable)
+            entry.setCheckState(Qt.CheckState.Unchecked)
+            self.inputs.addItem(entry)
+        self.inputs.setMaximumHeight(max(70, min(6, len(columns)) * 24 + 8))
+        self.inputs.blockSignals(False)
+        for combo in (self.expected, self.id_column, self.split_column):
+            combo.blockSignals(True)
+            while combo.count() > 1:
+                combo.removeItem(1)
+            for c in columns:
+                combo.addItem(c, c)
+            combo.setCurrentIndex(0)
+            combo.blockSignals(False)
+        self._show_problems(problems, guessed is not None)
         self._preselect(guessed)
         self._update()
-        self.resize(900, min(720, self.sizeHint().height() + 20))
+
+    def show_read_error(self, message: str) -> None:
+        """The file could not be read with the chosen sheet or title rows."""
+        self.read_error, self.rereading = message, False
+        self.problems.setText(f"<b>⚠ Not readable this way:</b> {html.escape(message)}")
+        self._update()
+
+    def _reread(self, sheet, skip_rows: int) -> None:
+        self.rereading = True
+        self.problems.setText("Reading the file again…")
+        self._update()
+        self.reread_requested.emit(sheet, skip_rows)
+
+    def reading(self) -> tuple[str | None, int]:
+        """(the workbook sheet to read or None, title rows to skip)."""
+        return self.reading_options.values()
 
     # -- building ------------------------------------------------------------------------
     def _fit_table_height(self) -> None:
@@ -170,21 +180,14 @@ class MappingDialog(QDialog):
         self.table.setMinimumHeight(min(wanted, 300))
         self.table.setMaximumHeight(wanted)
 
-    def _columns_group(self, columns: list[str]) -> QGroupBox:
+    def _columns_group(self) -> QGroupBox:
         group = QGroupBox("Columns")
         self.inputs = QListWidget()
         self.inputs.setAccessibleName("Input fields: columns the model reads")
-        for name in columns:
-            entry = QListWidgetItem(name)
-            entry.setFlags(entry.flags() | Qt.ItemFlag.ItemIsUserCheckable)
-            entry.setCheckState(Qt.CheckState.Unchecked)
-            self.inputs.addItem(entry)
-        self.inputs.setMaximumHeight(max(70, min(6, len(columns)) * 24 + 8))
         self.inputs.itemChanged.connect(lambda _i: self._update())
-        self.expected = self._column_combo(columns, "choose a column…", "Expected answer column")
-        self.id_column = self._column_combo(columns, "none: number the items by row",
-                                            "Item id column")
-        self.split_column = self._column_combo(columns, "none: draw the split",
+        self.expected = self._column_combo("choose a column…", "Expected answer column")
+        self.id_column = self._column_combo("none: number the items by row", "Item id column")
+        self.split_column = self._column_combo("none: draw the split",
                                                "Split column (tuning / held-out)")
         form = QFormLayout(group)
         form.addRow(self._buddy("&Input fields", self.inputs), self.inputs)
@@ -251,12 +254,10 @@ class MappingDialog(QDialog):
         self.marker.textEdited.connect(lambda _t: self._describe_check())
         return group
 
-    def _column_combo(self, columns: list[str], none_text: str, name: str) -> QComboBox:
+    def _column_combo(self, none_text: str, name: str) -> QComboBox:
         combo = QComboBox()
         combo.setAccessibleName(name)
         combo.addItem(none_text, None)
-        for c in columns:
-            combo.addItem(c, c)
         combo.currentIndexChanged.connect(lambda _i: self._update())
         return combo
 
@@ -298,6 +299,10 @@ class MappingDialog(QDialog):
         """Why the mapping cannot be used yet ('' when it can)."""
         inputs, expected = self._checked_inputs(), self.expected.currentData()
         id_col, split_col = self.id_column.currentData(), self.split_column.currentData()
+        if self.rereading:
+            return "Reading the file again…"
+        if self.read_error:
+            return "Choose another sheet or number of title rows: the file is not readable so."
         if not inputs:
             return "Tick at least one input field: a column the model reads."
         if expected is None:

@@ -17,7 +17,7 @@ from typing import Any, Callable
 from ...core.changes import NOTHING, Changes, Done
 from ...core.checks import CheckSpec
 from ...core.events import Marked, Progress, Stage, Started
-from ...core.project import ProjectSettings
+from ...core.project import ProjectSettings, preview_set
 from ...core.sets import ColumnMapping
 from ...core.wording import Wording
 from .state import load_state
@@ -140,6 +140,24 @@ def compare(project, engine, *, a: int, b: int, split: str, editor: Wording,
                                on_event=on_event, cancel=cancel)
 
 
+def resume(project, engine, *, run_id: int | None = None, cancel=None,
+           on_event: Listener = _quiet) -> Done:
+    """Finish an interrupted grade run (default: the latest) as a new run; the items it had
+    graded come back from the cache. Returns Done[Resumed]: the core's ResumeResult, the
+    project's newest run as the grade sheet shows it, and the runs still interrupted."""
+    with engine as model:
+        done = project.resume(model, run_id, on_event=on_event, cancel=cancel)
+    return Done(Resumed(done.value, project.last_run(), project.interrupted_runs()),
+                done.changes)
+
+
+@dataclass(frozen=True)
+class Resumed:
+    result: Any  # core.views.ResumeResult
+    view: Any  # core.views.RunView of the newest run, or None
+    interrupted: list
+
+
 # -- suggestions and auto-hone -----------------------------------------------------------
 def suggest(project, engine, *, strategy: str, count: int, base: Wording,
             other_id: int | None, settings: ProjectSettings | None = None, cancel=None,
@@ -215,12 +233,35 @@ def shelf_rows(project, engine=None) -> Done:
 # -- the project -------------------------------------------------------------------------
 def import_set(project, engine=None, *, path: str, mapping: ColumnMapping | None,
                check: CheckSpec | None, split_seed: int = 0,
-               held_out_fraction: float = 0.3) -> Done:
+               held_out_fraction: float = 0.3, sheet: str | None = None,
+               skip_rows: int = 0) -> Done:
     """Read, validate and store a question set (nothing is written if it is bad); returns
-    the project's new ProjectState."""
+    the project's new ProjectState. ``sheet``: a workbook's sheet to read (None: the
+    first); ``skip_rows``: title rows above the column names."""
     done = project.import_set(path, mapping, check=check, split_seed=split_seed,
-                              held_out_fraction=held_out_fraction)
+                              held_out_fraction=held_out_fraction, sheet=sheet,
+                              skip_rows=skip_rows)
     return Done(load_state(project.path, project), done.changes)
+
+
+def preview(project=None, engine=None, *, path: str, sheet: str | None = None,
+            skip_rows: int = 0, with_sheets: bool = False) -> Done:
+    """What the import dialog shows of a file (writes nothing): Done[Preview]."""
+    from ...core.sheets import sheet_names
+
+    head, guess, problems, recipe_check = preview_set(path, sheet=sheet, skip_rows=skip_rows)
+    sheets = (sheet_names(path) if with_sheets and path.lower().endswith(".xlsx")
+              else None)
+    return Done(Preview(head, guess, problems, recipe_check, sheets), NOTHING)
+
+
+@dataclass(frozen=True)
+class Preview:
+    head: Any  # pandas.DataFrame of the first rows
+    guess: ColumnMapping | None
+    problems: list
+    recipe_check: CheckSpec | None
+    sheets: list[str] | None  # a workbook's sheet names, else None
 
 
 def set_check(project, engine=None, *, check: CheckSpec) -> Done:

@@ -32,6 +32,7 @@ class ProjectState:
     marks: list[Mark] = field(default_factory=list)
     summary: RunSummary | None = None
     expected: dict[str, str] = field(default_factory=dict)
+    interrupted: list = field(default_factory=list)  # core.resume.Unfinished, oldest first
 
 
 def load_state(path: str | Path, project: Project | None = None) -> ProjectState:
@@ -40,7 +41,8 @@ def load_state(path: str | Path, project: Project | None = None) -> ProjectState
     set_id, qset = project.current_set() if project.has_set() else (None, None)
     state = ProjectState(project=project, title=project.title(), set_id=set_id, qset=qset,
                          check=project.check(), draft=project.draft(),
-                         shelf=project.shelf_rows(), settings=project.settings())
+                         shelf=project.shelf_rows(), settings=project.settings(),
+                         interrupted=project.interrupted_runs())
     if qset is not None:
         state.expected = {item.id: item.expected for item in qset.items}
         view = project.last_run()
@@ -58,3 +60,15 @@ def run_caption(run: RunInfo | None, graded: int | None = None) -> str:
               "failed": "stopped by an error", "running": "running"}.get(run.status, run.status)
     return (f"Run {run.id} · {SPLIT_WORDS.get(run.split, run.split)} · {n} of {run.n_items} "
             f"graded · {status}")
+
+
+def interrupted_text(state: ProjectState) -> str:
+    """'Run 7 was interrupted after 12 of 84 items — Run › Resume interrupted run', for the
+    latest interrupted run, or '' when there is none."""
+    if not state.interrupted:
+        return ""
+    latest = state.interrupted[-1]
+    more = len(state.interrupted) - 1
+    others = f" ({more} more interrupted run{'s' if more > 1 else ''})" if more else ""
+    return (f"Run {latest.run.id} was interrupted after {latest.graded} of "
+            f"{latest.run.n_items} items{others} — Run › Resume interrupted run")
