@@ -371,3 +371,21 @@ def test_snapshots_are_not_blank(qtbot, tmp_path, routing_set, routing_preview):
         if keep:
             os.makedirs(keep, exist_ok=True)
             shutil.copy(target, os.path.join(keep, target.name))
+
+
+def test_summary_bar_shows_wall_time_beside_model_time(qtbot):
+    """Items decoded together overlap, so their summed seconds overstate the run: the
+    summary shows the wall time too, in the core's words (the CLI prints the same)."""
+    from honebench.core.sets import Item
+    from honebench.core.summary import summarize
+    from honebench.gui.grading.summary import SummaryBar
+
+    items = [Item(id=f"i{n}", fields={"q": "x"}, expected="a", split="tuning", row=n + 2)
+             for n in range(4)]
+    marks = [Mark(item_id=it.id, output="a", extracted="a", passed=True, why="ok",
+                  seconds=8.0) for it in items]
+    summary = summarize(marks, items, "exact", wall_seconds=9.5)
+    bar = SummaryBar()
+    qtbot.addWidget(bar)
+    bar.set_summary(summary)
+    assert "model time: 32.0 s, wall time: 9.5 s" in bar.detail_label.text()

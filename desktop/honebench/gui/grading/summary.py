@@ -63,7 +63,7 @@ class SummaryBar(QWidget):
         parts.append(f"check: {summary.check}")
         parts.append(f"errors: {summary.errors}")
         parts.append(f"from cache: {summary.cached}")
-        parts.append(f"model time: {summary.model_seconds:.1f} s")
+        parts.append(summary.time_text())  # model time beside wall time, as the CLI says it
         if summary.mean_similarity is not None:
             parts.append(f"mean similarity: {summary.mean_similarity:.3f}")
         if s.total:
