@@ -100,7 +100,7 @@ def test_schema_2_file_opens_and_gains_label_scoring_columns(tmp_path):
     conn.commit()
     conn.close()
     store = Store(path)
-    assert sqlite3.connect(path).execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION == 3
+    assert sqlite3.connect(path).execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION == 4
     old = store.marks(1)[0]
     assert (old.output, old.confidence, old.runner_up) == ("refund", None, None)
     assert store.cache_get("k")["label_scores"] == ""
@@ -113,3 +113,36 @@ def test_schema_2_file_opens_and_gains_label_scoring_columns(tmp_path):
     assert new.choice_text == "timetable 0.61, next refund 0.22"
     assert new.as_dict()["runner_up_share"] == 0.22
     assert store.run(1).wall_seconds == 12.5
+
+
+def test_schema_3_file_gains_side_runs_and_analyses(tmp_path):
+    """A schema-3 project migrates to 4 in place: its runs stay ordinary runs; a side run
+    (made by an analysis) is left out of the runs that stand for shelf scores; analyses
+    are saved and read back."""
+    from honebench.core.store import MIGRATIONS
+
+    path = tmp_path / "three.hone"
+    conn = sqlite3.connect(path)
+    for script in MIGRATIONS[:3]:
+        conn.executescript(script)
+    conn.execute("PRAGMA user_version=3")
+    conn.execute("INSERT INTO question_sets VALUES(1,'s','s.csv','h','{}',0,0.3,1,'now')")
+    conn.execute("INSERT INTO runs(id, set_id, wording_text, placement, split, fingerprint, "
+                 "params, check_spec, started_at, status, n_items) "
+                 "VALUES(1,1,'w','before','tuning','fp','{}','{}','now','finished',1)")
+    conn.commit()
+    conn.close()
+    store = Store(path)
+    assert [r.purpose for r in store.runs()] == [""]
+    side = store.start_run(set_id=1, wording_text="w", placement="before", split="tuning",
+                           fingerprint="other", params={}, check={}, n_items=1,
+                           purpose="transfer")
+    assert [r.id for r in store.runs()] == [1]
+    assert [r.id for r in store.runs(purpose="transfer")] == [side]
+    assert [r.id for r in store.runs(purpose=None)] == [1, side]
+    assert store.latest_run().id == 1
+    found = store.add_analysis("transfer", {"runs": [side]}, subject="other.gguf")
+    saved = store.analyses("transfer")
+    assert [(a["id"], a["subject"], a["result"]) for a in saved] == [
+        (found, "other.gguf", {"runs": [side]})]
+    assert store.analyses("importance") == []

@@ -99,3 +99,4 @@ class RunInfo:
     status: str
     n_items: int
     wall_seconds: float | None = None  # from start to end of the run, on the clock
+    purpose: str = ""  # "" an ordinary grade run; "transfer"/"importance": an analysis' run

@@ -225,14 +225,17 @@ class Store:
     # -- runs and marks ------------------------------------------------------------------
     def start_run(self, *, set_id: int, wording_text: str, placement: str, split: str,
                   fingerprint: str, params: dict, check: dict, n_items: int,
-                  wording_id: int | None = None) -> int:
+                  wording_id: int | None = None, purpose: str = "") -> int:
+        """A new run; ``purpose`` "" is an ordinary grade run, anything else ("transfer",
+        "importance") a side run an analysis made, left out of ``runs()`` by default."""
         with self._tx() as c:
             cur = c.execute(
                 "INSERT INTO runs(set_id, wording_id, wording_text, placement, split, fingerprint,"
-                " params, check_spec, started_at, status, n_items) VALUES(?,?,?,?,?,?,?,?,?,?,?)",
+                " params, check_spec, started_at, status, n_items, purpose)"
+                " VALUES(?,?,?,?,?,?,?,?,?,?,?,?)",
                 (set_id, wording_id, wording_text, placement, split, fingerprint,
                  json.dumps({**params, "writer": this_writer()}, sort_keys=True),
-                 json.dumps(check, sort_keys=True), now(), "running", n_items),
+                 json.dumps(check, sort_keys=True), now(), "running", n_items, purpose),
             )
             return cur.lastrowid
 
@@ -271,10 +274,17 @@ class Store:
             raise KeyError(f"no grade run {run_id} in {self.path}")
         return _run(row)
 
-    def runs(self, *, wording_id: int | None = None) -> list[RunInfo]:
-        sql, args = "SELECT * FROM runs", ()
+    def runs(self, *, wording_id: int | None = None,
+             purpose: str | None = "") -> list[RunInfo]:
+        """Runs in order; by default the ordinary grade runs only. ``purpose`` names the
+        side runs wanted instead ("transfer", "importance"); None gives every run."""
+        where, args = [], []
         if wording_id is not None:
-            sql, args = sql + " WHERE wording_id=?", (wording_id,)
+            where, args = ["wording_id=?"], [wording_id]
+        if purpose is not None:
+            where.append("purpose=?")
+            args.append(purpose)
+        sql = "SELECT * FROM runs" + (" WHERE " + " AND ".join(where) if where else "")
         return [_run(r) for r in self._conn().execute(sql + " ORDER BY id", args)]
 
     def marks(self, run_id: int) -> list[Mark]:
@@ -294,8 +304,29 @@ class Store:
         return int(row[0]), int(row[1])
 
     def latest_run(self) -> RunInfo | None:
-        row = self._conn().execute("SELECT * FROM runs ORDER BY id DESC LIMIT 1").fetchone()
+        row = self._conn().execute(
+            "SELECT * FROM runs WHERE purpose='' ORDER BY id DESC LIMIT 1").fetchone()
         return None if row is None else _run(row)
+
+    # -- analyses (phrase importance, transfer checks) ---------------------------------
+    def add_analysis(self, kind: str, result: dict, *, wording_id: int | None = None,
+                     subject: str = "") -> int:
+        """Save an analysis' result (JSON-able); ``subject`` says what it was run on (for
+        a transfer check, the other engine)."""
+        with self._tx() as c:
+            return c.execute(
+                "INSERT INTO analyses(kind, wording_id, subject, result, created_at) "
+                "VALUES(?,?,?,?,?)", (kind, wording_id, subject, json.dumps(result), now())
+            ).lastrowid
+
+    def analyses(self, kind: str, *, wording_id: int | None = None) -> list[dict]:
+        """Saved analyses of a kind, oldest first: dicts with id, kind, wording_id,
+        subject, result (parsed) and created_at."""
+        sql, args = "SELECT * FROM analyses WHERE kind=?", [kind]
+        if wording_id is not None:
+            sql, args = sql + " AND wording_id=?", args + [wording_id]
+        return [{**dict(r), "result": json.loads(r["result"])}
+                for r in self._conn().execute(sql + " ORDER BY id", args)]
 
     # -- auto-hone -------------------------------------------------------------------------
     def start_hone(self, *, strategy: str, budget: dict) -> int:
@@ -357,4 +388,4 @@ def _run(r: sqlite3.Row) -> RunInfo:
                    fingerprint=r["fingerprint"], params=json.loads(r["params"]),
                    check=json.loads(r["check_spec"]), started_at=r["started_at"],
                    finished_at=r["finished_at"], status=r["status"], n_items=r["n_items"],
-                   wall_seconds=r["wall_seconds"])
+                   wall_seconds=r["wall_seconds"], purpose=r["purpose"])

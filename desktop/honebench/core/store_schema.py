@@ -64,4 +64,13 @@ MIGRATIONS: tuple[str, ...] = (
     ALTER TABLE runs ADD COLUMN wall_seconds REAL;
     ALTER TABLE completion_cache ADD COLUMN label_scores TEXT NOT NULL DEFAULT '';
     """,
+    # 4: side runs (a run's purpose: "" for an ordinary grade run; "transfer" or
+    # "importance" for runs made by an analysis, which never stand for a shelf version's
+    # score) and the analyses' results (phrase importance, transfer checks)
+    """
+    ALTER TABLE runs ADD COLUMN purpose TEXT NOT NULL DEFAULT '';
+    CREATE TABLE analyses (
+        id INTEGER PRIMARY KEY, kind TEXT NOT NULL, wording_id INTEGER REFERENCES wordings(id),
+        subject TEXT NOT NULL DEFAULT '', result TEXT NOT NULL, created_at TEXT NOT NULL);
+    """,
 )
