@@ -169,24 +169,26 @@ def main(argv: list[str] | None = None) -> int:
         return 130
 
 
+def engine_choice(args):
+    """The engine the arguments name (--endpoint, --model or the bundled model)."""
+    from .core.engines.choice import EngineChoice
+
+    if getattr(args, "endpoint", None):
+        return EngineChoice.endpoint(args.endpoint, args.endpoint_model or "",
+                                     timeout=args.timeout)
+    if getattr(args, "model", None):
+        return EngineChoice.file(args.model)
+    return EngineChoice.bundled()
+
+
 def open_engine(args):
     """The engine the arguments ask for."""
-    if getattr(args, "endpoint", None):
-        from .core.engines.remote import EndpointEngine
-        engine = EndpointEngine(args.endpoint, args.endpoint_model, timeout=args.timeout)
-        engine.check()
-        return engine
-    from .core.engines.local import LocalEngine
-    return LocalEngine(args.model)
+    return engine_choice(args).open()
 
 
 def preflight_engine(args) -> None:
     """Check the model file or endpoint the arguments name, without loading a model."""
-    if getattr(args, "endpoint", None):
-        open_engine(args).close()
-    elif getattr(args, "model", None):
-        from .core.engines.model_files import check_model_file
-        check_model_file(args.model)
+    engine_choice(args).check()
 
 
 def _gui(args) -> int:
