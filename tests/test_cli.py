@@ -41,6 +41,13 @@ def test_grade_json_has_the_promised_fields(tmp_path, sample_dir):
                                  "--check", "number", "--limit", "6", "--max-tokens", "12",
                                  "--json", home=tmp_path).stdout)
     assert again["model_calls"] == 0 and again["passed"] == data["passed"]
+    # cost: the marks' tokens added up; the re-grade from the cache costs what answering did
+    cost = data["cost"]
+    assert cost["total_prompt_tokens"] == sum(m["prompt_tokens"] for m in data["marks"])
+    assert cost["mean_answer_tokens"] == round(
+        sum(m["completion_tokens"] for m in data["marks"]) / 6, 2) and cost["mean_seconds"] > 0
+    for key in ("mean_prompt_tokens", "mean_answer_tokens", "mean_seconds", "total_seconds"):
+        assert again["cost"][key] == cost[key]
 
 
 @pytest.mark.model

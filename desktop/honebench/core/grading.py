@@ -262,6 +262,7 @@ def _cached_result(item_id: str, hit) -> Result:
     saved = json.loads(hit["label_scores"]) if hit["label_scores"] else {}
     return Result(key=item_id, text=hit["text"], cached=True,
                   prompt_tokens=hit["prompt_tokens"], completion_tokens=hit["completion_tokens"],
+                  seconds=hit["seconds"],  # the answer's cost when first asked (core/cost.py)
                   finish_reason=hit["finish_reason"],
                   label_logprobs=tuple(saved.get("logprobs", ())),
                   label_shares=tuple(saved.get("shares", ())), note=saved.get("note", ""))

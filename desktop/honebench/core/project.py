@@ -16,6 +16,7 @@ from .changes import EVERYTHING, Changes, Done
 from .check_fit import check_for_new_set
 from .checks import CheckSpec
 from .compare import latest_run
+from .cost import RunCost, run_cost as cost_of_run
 from .operations.exports import ExportOps
 from .operations.grading import GradingOps
 from .operations.improve import ImproveOps
@@ -213,7 +214,8 @@ class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
             found = [latest.get((entry.text, entry.placement, split)) for split in
                      ("tuning", "held_out")]
             tuning, held = (self.run_score(r) if r else None for r in found)
-            rows.append(ShelfRow(entry, tuning, held))
+            rows.append(ShelfRow(entry, tuning, held,
+                                 cost_of_run(self.store, found[0]) if found[0] else None))
         return rows
 
     def shelf_entry(self, version: str | int) -> ShelfEntry:
@@ -245,6 +247,10 @@ class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
     def run_score(self, run_id: int) -> Score:
         passed, total = self.store.run_counts(run_id)
         return score(passed, total)
+
+    def run_cost(self, run_id: int) -> RunCost:
+        """What answering cost in a run: tokens and seconds per item (core/cost.py)."""
+        return cost_of_run(self.store, run_id)
 
     def summary(self, run_id: int) -> RunSummary:
         run = self.store.run(run_id)

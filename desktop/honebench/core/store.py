@@ -303,6 +303,12 @@ class Store:
             (run_id,)).fetchone()
         return int(row[0]), int(row[1])
 
+    def mark_costs(self, run_id: int) -> list[tuple[int, int, float, bool]]:
+        """(prompt tokens, answer tokens, seconds, cached) of each mark of a run."""
+        return [(r[0], r[1], r[2], bool(r[3])) for r in self._conn().execute(
+            "SELECT prompt_tokens, completion_tokens, seconds, cached FROM marks "
+            "WHERE run_id=? ORDER BY seq", (run_id,))]
+
     def latest_run(self) -> RunInfo | None:
         row = self._conn().execute(
             "SELECT * FROM runs WHERE purpose='' ORDER BY id DESC LIMIT 1").fetchone()

@@ -4,6 +4,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
+from .cost import RunCost
 from .records import Mark, RunInfo, ShelfEntry
 from .stats import Score
 from .summary import RunSummary
@@ -17,11 +18,13 @@ SPLIT_WORDS = {"tuning": "tuning items", "held_out": "held-out items", "all": "a
 
 @dataclass(frozen=True)
 class ShelfRow:
-    """A shelf entry with its latest finished scores on the current set."""
+    """A shelf entry with its latest finished scores on the current set, and the cost of
+    the tuning run its tuning score comes from (core/cost.py)."""
 
     entry: ShelfEntry
     tuning: Score | None
     held_out: Score | None
+    cost: RunCost | None = None
 
 
 @dataclass(frozen=True)

@@ -31,10 +31,13 @@ def result_text(mark: Mark) -> str:
 
 
 def cost_text(mark: Mark) -> str:
-    """'prompt 412 tokens + answer 7 tokens · 0.38 s' (and whether it came from the cache)."""
-    text = (f"prompt {mark.prompt_tokens:,} tokens + answer {mark.completion_tokens:,} tokens · "
-            f"{mark.seconds:.2f} s")
-    return text + " · answer taken from the cache" if mark.cached else text
+    """'prompt 412 tokens + answer 7 tokens · 0.38 s'; a cached answer's cost is the one
+    measured when the model first gave it."""
+    text = f"prompt {mark.prompt_tokens:,} tokens + answer {mark.completion_tokens:,} tokens"
+    if not mark.cached:
+        return f"{text} · {mark.seconds:.2f} s"
+    when = f" · {mark.seconds:.2f} s" if mark.seconds > 0 else ""
+    return f"{text}{when} when first answered · answer taken from the cache"
 
 
 def _shown(text: str, empty: str = "(empty)") -> str:
