@@ -21,7 +21,8 @@ def new_project(tmp_path, set_name: str = ROUTING) -> Project:
 def add_run(project: Project, wording: Wording, split: str, passed: Sequence[bool], *,
             scores: Sequence[float] | None = None, outputs: Sequence[str] | None = None,
             item_ids: Sequence[str] | None = None, check: dict | None = None,
-            fingerprint: str = "test-engine:sha256=abc", finish: bool = True) -> int:
+            fingerprint: str = "test-engine:sha256=abc", finish: bool = True,
+            prompt_tokens: int = 10, completion_tokens: int = 3, seconds: float = 0.25) -> int:
     """A run of ``wording`` whose i-th mark (over the split's items, or ``item_ids``)
     passes when passed[i]; marks are saved in reverse order, as a grader may finish them."""
     set_id, qset = project.current_set()
@@ -43,7 +44,8 @@ def add_run(project: Project, wording: Wording, split: str, passed: Sequence[boo
         project.store.add_mark(run_id, Mark(
             item_id=iid, output=out, extracted=out.splitlines()[0] if out else "",
             passed=bool(passed[i]), why="matches" if passed[i] else f"expected {expected[iid]!r}",
-            score=sc, prompt_tokens=10, completion_tokens=3, seconds=0.25), seq)
+            score=sc, prompt_tokens=prompt_tokens, completion_tokens=completion_tokens,
+            seconds=seconds), seq)
     if finish:
         project.store.finish_run(run_id, "finished")
     return run_id

@@ -25,7 +25,8 @@ from .sets import QuestionSet
 from .stats import Score
 from .wording import PLACEMENT_LABELS
 
-SECTIONS = ("task", "set", "engine", "shelf", "chosen", "comparison", "chart", "cautions")
+SECTIONS = ("task", "set", "engine", "shelf", "chosen", "comparison", "chart", "cost",
+            "cautions")
 SPLITS = ("tuning", "held_out")
 CSV_COLUMNS = ("run_id", "version", "split", "item_id", "expected", "output", "extracted",
                "passed", "score", "why", "error", "tokens", "seconds")

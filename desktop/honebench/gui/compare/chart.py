@@ -3,6 +3,7 @@
 Tuning items are a solid line, held-out items a dashed one; each has its 95% interval as a
 shaded band. The marker's shape gives the decision: a filled circle for kept, a cross for
 set aside, a hollow square for not decided. Colours come from the palette (dark too).
+A toggle above switches to the score-vs-cost view (cost_chart.py) with the Pareto front.
 """
 from __future__ import annotations
 
@@ -12,9 +13,11 @@ from PySide6.QtCharts import (QAreaSeries, QCategoryAxis, QChart, QChartView, QL
                               QScatterSeries, QValueAxis)
 from PySide6.QtCore import QEvent, QMargins, QPointF, Qt
 from PySide6.QtGui import QBrush, QColor, QImage, QPainter, QPalette, QPen
-from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
+from PySide6.QtWidgets import (QButtonGroup, QHBoxLayout, QLabel, QPushButton,
+                               QStackedWidget, QVBoxLayout, QWidget)
 
 from ...core.project import ShelfRow
+from .cost_chart import CostChart
 
 SPLITS = (("tuning", "tuning items"), ("held_out", "held-out items"))
 DECISIONS = (("kept", "kept"), ("set_aside", "set aside"), ("", "not decided"))
@@ -49,6 +52,25 @@ def cross_image(colour: QColor, size: int = int(MARKER) + 3) -> QImage:
     return image
 
 
+def mark_style(dots: QScatterSeries, decision: str, colour: QColor) -> None:
+    """Marker by decision: filled circle kept, cross set aside, hollow square not decided."""
+    dots.setMarkerSize(MARKER)
+    if decision == "kept":
+        dots.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeCircle)
+        dots.setColor(colour)
+        dots.setBorderColor(colour)
+    elif decision == "set_aside":
+        image = cross_image(colour)
+        dots.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeRectangle)
+        dots.setMarkerSize(image.width())
+        dots.setBrush(QBrush(image))
+        dots.setPen(QPen(Qt.PenStyle.NoPen))
+    else:
+        dots.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeRectangle)
+        dots.setBrush(QBrush(Qt.BrushStyle.NoBrush))
+        dots.setPen(QPen(colour, 1.8))
+
+
 def _scored(row: ShelfRow, split: str):
     s = getattr(row, split)
     return s if s is not None and s.total > 0 else None
@@ -59,7 +81,8 @@ class ProgressChart(QWidget):
 
     Attributes for tests and readers: ``lines[split]`` (QLineSeries of rates in percent),
     ``bands[split]`` (QAreaSeries), ``markers[(split, decision)]`` (QScatterSeries;
-    decision "kept", "set_aside" or "")."""
+    decision "kept", "set_aside" or ""); ``cost`` (the score-vs-cost view, a CostChart)
+    and ``show_cost(on)``, the toggle between the two views."""
 
     def __init__(self, parent=None):
         super().__init__(parent)
@@ -80,12 +103,21 @@ class ProgressChart(QWidget):
         self.caption.setWordWrap(True)
         self.caption.setForegroundRole(QPalette.ColorRole.PlaceholderText)
         self.caption.setAccessibleName("What the chart shows")
-        layout = QVBoxLayout(self)
-        layout.setContentsMargins(4, 4, 4, 4)
+        by_version = QWidget()
+        layout = QVBoxLayout(by_version)
+        layout.setContentsMargins(0, 0, 0, 0)
         layout.addWidget(self.view, 1)
         layout.addWidget(self.legend)
         layout.addWidget(self.empty)
         layout.addWidget(self.caption)
+        self.cost = CostChart()  # the score-vs-cost view
+        self.pages = QStackedWidget()
+        self.pages.addWidget(by_version)
+        self.pages.addWidget(self.cost)
+        outer = QVBoxLayout(self)
+        outer.setContentsMargins(4, 4, 4, 4)
+        outer.addLayout(self._view_buttons())
+        outer.addWidget(self.pages, 1)
         self.lines: dict[str, QLineSeries] = {}
         self.bands: dict[str, QAreaSeries] = {}
         self.markers: dict[tuple[str, str], QScatterSeries] = {}
@@ -97,11 +129,39 @@ class ProgressChart(QWidget):
     def set_rows(self, rows: Sequence[ShelfRow]) -> None:
         self.rows = sorted(rows, key=lambda r: r.entry.version)
         self._fill()
+        self.cost.set_rows(self.rows)
+
+    def show_cost(self, on: bool) -> None:
+        """Score against cost (True) or score by version (False)."""
+        self.pages.setCurrentIndex(1 if on else 0)
+        self.cost.measure_row.setVisible(on)
+        (self.cost_button if on else self.version_button).setChecked(True)
 
     def point_count(self, split: str) -> int:
         return self.lines[split].count()
 
     # -- internals -----------------------------------------------------------------------
+    def _view_buttons(self) -> QHBoxLayout:
+        """Two linked toggles: score by version, or score against cost."""
+        self.version_button = QPushButton("B&y version")
+        self.version_button.setToolTip("Score per shelf version, in order of creation")
+        self.cost_button = QPushButton("Score vs cost")
+        self.cost_button.setToolTip("Tuning score against tokens (or seconds) per item, "
+                                    "with the Pareto front")
+        group = QButtonGroup(self)
+        row = QHBoxLayout()
+        for n, button in enumerate((self.version_button, self.cost_button)):
+            button.setCheckable(True)
+            group.addButton(button, n)
+            row.addWidget(button)
+        row.addSpacing(12)
+        row.addWidget(self.cost.measure_row)  # the cost measure, shown with its view
+        self.cost.measure_row.hide()
+        row.addStretch(1)
+        self.version_button.setChecked(True)
+        group.idClicked.connect(lambda n: self.show_cost(n == 1))
+        return row
+
     def _setup(self) -> None:
         """Series and axes, made once; set_rows only replaces their points."""
         chart = self.chart
@@ -190,30 +250,12 @@ class ProgressChart(QWidget):
             self.bands[split].setBrush(fill)
             self.bands[split].setPen(QPen(Qt.PenStyle.NoPen))
             for decision, _words in DECISIONS:
-                self._mark_style(self.markers[(split, decision)], decision, colour)
+                mark_style(self.markers[(split, decision)], decision, colour)
         tuning, held = (split_colour(pal, sp).name() for sp in ("tuning", "held_out"))
         self.legend.setText(
             f"<span style='color:{tuning}'>━━</span>&nbsp;tuning items &nbsp; "
             f"<span style='color:{held}'>╍╍</span>&nbsp;held-out items &nbsp; "
             "●&nbsp;kept &nbsp; ✕&nbsp;set aside &nbsp; □&nbsp;not decided")
-
-    @staticmethod
-    def _mark_style(dots: QScatterSeries, decision: str, colour: QColor) -> None:
-        dots.setMarkerSize(MARKER)
-        if decision == "kept":
-            dots.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeCircle)
-            dots.setColor(colour)
-            dots.setBorderColor(colour)
-        elif decision == "set_aside":
-            image = cross_image(colour)
-            dots.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeRectangle)
-            dots.setMarkerSize(image.width())
-            dots.setBrush(QBrush(image))
-            dots.setPen(QPen(Qt.PenStyle.NoPen))
-        else:
-            dots.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeRectangle)
-            dots.setBrush(QBrush(Qt.BrushStyle.NoBrush))
-            dots.setPen(QPen(colour, 1.8))
 
     def _tip(self, point: QPointF, on: bool, split: str) -> None:
         if not on:

@@ -17,12 +17,19 @@ from ...core.wording import PLACEMENT_LABELS
 
 EMPTY_TEXT = ("Nothing on the shelf yet. Grade a wording, then press Keep (Ctrl+K) to put it "
               "here as v1.")
-COLUMNS = ("version", "tuning", "held-out", "origin", "placement", "saved")
-VERSION, TUNING, HELD_OUT, ORIGIN, PLACEMENT, SAVED = range(len(COLUMNS))
+COLUMNS = ("version", "tuning", "held-out", "prompt", "answer", "s/item", "origin",
+           "placement", "saved")
+(VERSION, TUNING, HELD_OUT, PROMPT_TOKENS, ANSWER_TOKENS, SECONDS, ORIGIN, PLACEMENT,
+ SAVED) = range(len(COLUMNS))
+COST_COLUMNS = (PROMPT_TOKENS, ANSWER_TOKENS, SECONDS)
 HEADER_TIPS = {
     VERSION: "the shelf number; set-aside versions say so and are greyed",
     TUNING: "pass rate on the tuning items, its 95% interval and the number of items",
     HELD_OUT: "pass rate on the held-out items, its 95% interval and the number of items",
+    PROMPT_TOKENS: "mean prompt tokens per item, on the run behind the tuning score",
+    ANSWER_TOKENS: "mean answer tokens per item, on the run behind the tuning score",
+    SECONDS: "mean seconds per item, on the run behind the tuning score; seconds depend on "
+             "the machine and its load, tokens do not",
     PLACEMENT: "where the wording goes in the prompt",
     ORIGIN: "typed by you, or the strategy that suggested it",
     SAVED: "when it was put on the shelf",
@@ -43,6 +50,20 @@ def score_cell(s: Score | None) -> str:
     if s.total == 0:
         return "n=0"
     return f"{_percent(s.rate)} ({round(s.low * 100)}–{round(s.high * 100)}, n={s.total})"
+
+
+def cost_cell(row: ShelfRow, col: int) -> str:
+    """Mean prompt tokens '412', answer tokens '6.8' or seconds '0.38' per item; a dash
+    when the version has no tuning run or its seconds were not measured."""
+    cost = row.cost
+    value = None if cost is None else {PROMPT_TOKENS: cost.mean_prompt_tokens,
+                                       ANSWER_TOKENS: cost.mean_answer_tokens,
+                                       SECONDS: cost.mean_seconds}[col]
+    if value is None:
+        return "—"
+    if col == SECONDS:
+        return f"{value:.2f}" if value < 10 else f"{value:.1f}"
+    return f"{value:,.1f}" if value < 100 else f"{value:,.0f}"
 
 
 def saved_cell(created_at: str, now: datetime | None = None) -> str:
@@ -124,11 +145,15 @@ class ShelfModel(ColumnsModel):
                 return version_cell(row, self.tags.get(entry.id, ()))
             if col in (TUNING, HELD_OUT):
                 return score_cell(row.tuning if col == TUNING else row.held_out)
+            if col in COST_COLUMNS:
+                return cost_cell(row, col)
             if col == PLACEMENT:
                 return PLACEMENT_LABELS.get(entry.placement, entry.placement)
             if col == ORIGIN:
                 return entry.origin.replace("_", " ")
             return saved_cell(entry.created_at)
+        if role == Qt.ItemDataRole.TextAlignmentRole and col in COST_COLUMNS:
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         if role == Qt.ItemDataRole.ForegroundRole and entry.decision == "set_aside":
             return self.palette.color(QPalette.ColorGroup.Disabled, QPalette.ColorRole.Text)
         if role == Qt.ItemDataRole.ToolTipRole:
@@ -148,6 +173,8 @@ class ShelfModel(ColumnsModel):
                  f"{html.escape(PLACEMENT_LABELS.get(e.placement, e.placement))})"]
         for name, s in (("tuning", row.tuning), ("held-out", row.held_out)):
             lines.append(f"{name}: {html.escape(s.text()) if s is not None else 'not graded'}")
+        if row.cost is not None:
+            lines.append(f"cost: {html.escape(row.cost.text())}")
         if e.note:
             lines.append(f"note: {html.escape(e.note)}")
         text = e.text if len(e.text) <= 2000 else e.text[:1999] + "…"
