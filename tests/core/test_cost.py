@@ -162,3 +162,5 @@ def test_grade_json_gains_cost_means_and_totals(project, capsys):
     assert cost["mean_answer_tokens"] == pytest.approx(
         sum(m.completion_tokens for m in marks) / 3, abs=0.01)
     assert cost["wall_seconds"] is not None
+    _print_grade(project, result, argparse.Namespace(json=False, split="tuning"))
+    assert f"cost: {project.run_cost(result.outcome.run_id).text()}" in capsys.readouterr().out

@@ -61,6 +61,8 @@ def cost_section(rows: Sequence) -> str:
             "read the intervals and compare the versions on the same items before dropping a "
             "cheaper one.</li>"
             f"<li>{escape(SECONDS_CAUTION)}</li>"
+            "<li>Token counts come from the engine's own tokenizer: they compare wordings on "
+            "one engine, not one engine with another.</li>"
             "<li>Answers taken from the cache count with the tokens and seconds measured when "
             "the model first gave them, so a re-graded wording does not look free.</li>"
             "</ul>")
