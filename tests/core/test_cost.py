@@ -140,12 +140,23 @@ def test_shelf_rows_carry_the_tuning_runs_cost_and_the_report_shows_the_tradeoff
     for w, n in ((v1, 3), (v2, 4)):
         project.store.add_wording(w.text, w.placement, decision="kept")
         add_run(project, w, "tuning", pattern(n, 6))  # 10 prompt + 3 answer tokens, 0.25 s
+    html = report_html(project)
+    # same tokens, v2 scores higher: v2 alone on the front (worked example)
+    assert '<section id="cost">' in html and "Pareto front (v2)" in html
+    assert "Answer tokens of 0" not in html
     rows = project.shelf_rows()
     assert [r.cost.mean_tokens for r in rows] == [13.0, 13.0]
     assert rows[0].cost.mean_seconds == pytest.approx(0.25) and rows[0].cost.items == 6
+    v3 = Wording("Desk?", "after")  # scored labels: no answer tokens, 5 prompt tokens
+    project.store.add_wording(v3.text, v3.placement, decision="kept")
+    add_run(project, v3, "tuning", pattern(1, 6), prompt_tokens=5, completion_tokens=0)
     html = report_html(project)
-    assert '<section id="cost">' in html and "Pareto front (v2)" in html
+    # v3 is the cheapest (5 < 13 tokens), so it joins the front below v2 (worked example)
+    assert "Pareto front (v2, v3)" in html and "Answer tokens of 0" in html
     assert "Seconds depend on the machine" in html and "with 6 tuning items" in html
+    table = html[html.index('<section id="cost">'):html.index("<svg", html.index(
+        '<section id="cost">'))]
+    assert table.index("<td>v3</td>") < table.index("<td>v1</td>")  # cheapest first
     project.close()
 
 

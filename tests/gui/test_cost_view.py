@@ -89,4 +89,6 @@ def test_shelf_shows_cost_and_the_chart_marks_the_pareto_front(qtbot, runner, se
     _save(qtbot, {"chart": chart, "shelf": window.shelf_panel})
     chart.version_button.click()
     assert chart.pages.currentIndex() == 0 and chart.point_count("tuning") == 5
+    assert not chart.cost.measure_row.isVisible()  # the cost measure goes with its view
+    _save(qtbot, {"chart_by_version": chart})
     window.window.close()

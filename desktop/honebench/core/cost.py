@@ -9,6 +9,7 @@ cache carries the tokens and seconds of the answer it reuses, as measured when t
 gave it. Re-grading from the cache therefore does not make a wording look free. Marks
 saved before cached answers kept their seconds have 0 there: those marks are left out of
 the seconds mean (``timed`` says how many marks the seconds rest on), never counted as 0.
+Answers chosen by scoring the labels generate nothing, so their answer tokens are 0.
 
 The Pareto front of (score, cost) points holds the versions no other version beats on both:
 none has a score at least as high at a cost at least as low, with one of the two strictly

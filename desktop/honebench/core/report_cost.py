@@ -34,6 +34,24 @@ def tradeoff_table(points: Sequence[CostPoint]) -> str:
     return f"<table>{head}{''.join(body)}</table>"
 
 
+def cautions(points: Sequence[CostPoint]) -> list[str]:
+    """The cautions that apply to these points, as plain sentences."""
+    n = max(p.score.total for p in points)
+    out = [f"The front compares point scores: with {n} tuning items one item is "
+           f"{100 / n:.1f} points, and a version beaten by a few points may be as good; read "
+           "the intervals and compare the versions on the same items before dropping a "
+           "cheaper one.",
+           SECONDS_CAUTION,
+           "Token counts come from the engine's own tokenizer: they compare wordings on one "
+           "engine, not one engine with another."]
+    if any(p.cost.total_answer_tokens == 0 for p in points):
+        out.append("Answer tokens of 0: the answers were chosen by scoring the labels, which "
+                   "generates nothing; their cost is in the prompt tokens.")
+    out.append("Answers taken from the cache count with the tokens and seconds measured when "
+               "the model first gave them, so a re-graded wording does not look free.")
+    return out
+
+
 def cost_section(rows: Sequence) -> str:
     """The whole <section id="cost"> for the shelf rows (core.views.ShelfRow)."""
     points = cost_points(rows)
@@ -41,13 +59,11 @@ def cost_section(rows: Sequence) -> str:
         body = ("<p>No shelf version has a tuning score with a measured cost yet; grade a "
                 "wording on the tuning items to start the trade-off.</p>")
     else:
-        n = max(p.score.total for p in points)
-        on_front = [p.label for p in points if p.on_front]
+        on_front = ", ".join(p.label for p in points if p.on_front)
         body = (
             "<p>Each version's tuning score beside what answering one item costs on its "
             "latest tuning run: prompt and answer tokens (the cost the front is drawn on) and "
-            "seconds. The "
-            f"Pareto front ({escape(', '.join(on_front))}) holds the versions no other "
+            f"seconds. The Pareto front ({escape(on_front)}) holds the versions no other "
             "version beats on both: none scores at least as high for at most the same tokens "
             "with one of the two strictly better. Versions with equal score and cost both "
             "stay on it.</p>"
@@ -55,15 +71,5 @@ def cost_section(rows: Sequence) -> str:
             + '<p class="muted">Marker shape: the decision (circle kept, cross set aside, '
             "square not decided); whisker: 95% interval of the score; ringed versions joined "
             "by the step line: the Pareto front.</p>"
-            + "<ul>"
-            f"<li>The front compares point scores: with {n} tuning items one item is "
-            f"{100 / n:.1f} points, and a version beaten by a few points may be as good; "
-            "read the intervals and compare the versions on the same items before dropping a "
-            "cheaper one.</li>"
-            f"<li>{escape(SECONDS_CAUTION)}</li>"
-            "<li>Token counts come from the engine's own tokenizer: they compare wordings on "
-            "one engine, not one engine with another.</li>"
-            "<li>Answers taken from the cache count with the tokens and seconds measured when "
-            "the model first gave them, so a re-graded wording does not look free.</li>"
-            "</ul>")
+            + "<ul>" + "".join(f"<li>{escape(t)}</li>" for t in cautions(points)) + "</ul>")
     return f'<section id="cost">\n<h2>Cost beside score</h2>\n{body}\n</section>'

@@ -27,7 +27,8 @@ HEADER_TIPS = {
     TUNING: "pass rate on the tuning items, its 95% interval and the number of items",
     HELD_OUT: "pass rate on the held-out items, its 95% interval and the number of items",
     PROMPT_TOKENS: "mean prompt tokens per item, on the run behind the tuning score",
-    ANSWER_TOKENS: "mean answer tokens per item, on the run behind the tuning score",
+    ANSWER_TOKENS: "mean answer tokens per item, on the run behind the tuning score (0 when "
+                   "the labels were scored rather than generated)",
     SECONDS: "mean seconds per item, on the run behind the tuning score; seconds depend on "
              "the machine and its load, tokens do not",
     PLACEMENT: "where the wording goes in the prompt",
