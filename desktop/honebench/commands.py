@@ -139,7 +139,6 @@ def _print_grade(project: Project, result, args) -> None:
                    split=args.split, wording=result.run.wording_text,
                    placement=result.run.placement, version=result.entry.label,
                    settings=result.run.params, model_calls=outcome.model_calls,
-                   cost=project.run_cost(outcome.run_id).as_dict(),
                    marks=[m.as_dict() for m in outcome.marks])
         print(json.dumps(out, indent=2, ensure_ascii=False))
         return
@@ -148,7 +147,6 @@ def _print_grade(project: Project, result, args) -> None:
           f"run {outcome.run_id}, {result.entry.label} on the shelf)")
     for line in summary.lines():
         print(line)
-    print(f"cost: {project.run_cost(outcome.run_id).text()}")
     misses = [m for m in outcome.marks if not m.passed][:5]
     if misses:
         print("first misses:")

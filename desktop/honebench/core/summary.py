@@ -4,6 +4,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Sequence
 
+from .cost import RunCost, marks_cost
 from .records import Mark
 from .sets import Item
 from .stats import LabelReport, Score, label_report, score
@@ -32,6 +33,7 @@ class RunSummary:
     status: str = "finished"  # the run's status (see core.resume.STATUS_WORDS)
     planned: int = 0  # items the run set out to grade (0: as many as were graded)
     first_error: str | None = None
+    cost: RunCost | None = None  # tokens and seconds per item (core/cost.py)
 
     def time_text(self) -> str:
         """"model time 824.9 s, wall time 230.1 s": model time adds up every item's own
@@ -48,6 +50,8 @@ class RunSummary:
             out.append(self.status_text())
         out.append(f"check: {self.check}; errors: {self.errors}; from cache: {self.cached}; "
                    f"{self.time_text()}")
+        if self.cost is not None:
+            out.append(f"cost: {self.cost.text()}")
         if self.errors:
             out.append(f"{self.errors} item{'s' if self.errors > 1 else ''} got no answer "
                        f"(first: {self.first_error}) and count as misses; grading again asks "
@@ -76,6 +80,8 @@ class RunSummary:
             "model_seconds": round(self.model_seconds, 3),
             "wall_seconds": None if self.wall_seconds is None else round(self.wall_seconds, 3),
         }
+        if self.cost is not None:
+            d["cost"] = self.cost.as_dict()
         if self.mean_similarity is not None:
             d["mean_similarity"] = self.mean_similarity
         if self.labels is not None:
@@ -114,7 +120,8 @@ def summarize(marks: Sequence[Mark], items: Sequence[Item], check_kind: str,
         model_seconds=sum(m.seconds for m in marks if not m.cached), labels=report,
         mean_similarity=similarity, wall_seconds=wall_seconds, status=status,
         planned=planned,
-        first_error=next((m.error for m in marks if m.error is not None), None))
+        first_error=next((m.error for m in marks if m.error is not None), None),
+        cost=marks_cost(marks, wall_seconds) if marks else None)
 
 
 def label_lines(rep: LabelReport) -> list[str]:

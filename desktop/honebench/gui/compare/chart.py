@@ -118,6 +118,7 @@ class ProgressChart(QWidget):
         outer.setContentsMargins(4, 4, 4, 4)
         outer.addLayout(self._view_buttons())
         outer.addWidget(self.pages, 1)
+        self.show_cost(False)
         self.lines: dict[str, QLineSeries] = {}
         self.bands: dict[str, QAreaSeries] = {}
         self.markers: dict[tuple[str, str], QScatterSeries] = {}
@@ -136,6 +137,10 @@ class ProgressChart(QWidget):
         self.pages.setCurrentIndex(1 if on else 0)
         self.cost.measure_row.setVisible(on)
         (self.cost_button if on else self.version_button).setChecked(True)
+        for button in (self.version_button, self.cost_button):  # the view shown, in bold
+            font = button.font()
+            font.setBold(button.isChecked())
+            button.setFont(font)
 
     def point_count(self, split: str) -> int:
         return self.lines[split].count()
@@ -158,7 +163,6 @@ class ProgressChart(QWidget):
         row.addWidget(self.cost.measure_row)  # the cost measure, shown with its view
         self.cost.measure_row.hide()
         row.addStretch(1)
-        self.version_button.setChecked(True)
         group.idClicked.connect(lambda n: self.show_cost(n == 1))
         return row
 

@@ -64,6 +64,8 @@ class SummaryBar(QWidget):
         parts.append(f"errors: {summary.errors}")
         parts.append(f"from cache: {summary.cached}")
         parts.append(summary.time_text())  # model time beside wall time, as the CLI says it
+        if summary.cost is not None:
+            parts.append(f"cost: {summary.cost.text()}")
         if summary.mean_similarity is not None:
             parts.append(f"mean similarity: {summary.mean_similarity:.3f}")
         if s.total:
