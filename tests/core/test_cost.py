@@ -7,7 +7,7 @@ import json
 import xml.etree.ElementTree as ET
 
 import pytest
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from honebench.commands import _print_grade
@@ -52,6 +52,7 @@ def _beaten(a, b) -> bool:
     return b[1] >= a[1] and b[2] <= a[2] and (b[1] > a[1] or b[2] < a[2])
 
 
+@settings(deadline=None)  # no timing in tests: the machine is shared
 @given(st.lists(st.tuples(st.integers(0, 10), st.integers(0, 10)), max_size=25))
 def test_pareto_front_matches_the_definition_checked_pair_by_pair(pairs):
     points = [(i, s / 10, c) for i, (s, c) in enumerate(pairs)]

@@ -92,3 +92,20 @@ def test_shelf_shows_cost_and_the_chart_marks_the_pareto_front(qtbot, runner, se
     assert not chart.cost.measure_row.isVisible()  # the cost measure goes with its view
     _save(qtbot, {"chart_by_version": chart})
     window.window.close()
+
+
+def test_item_view_says_a_cached_answers_cost_is_from_when_it_was_first_given():
+    from honebench.core.records import Mark
+    from honebench.gui.grading.item_view import cost_text
+
+    fresh = Mark("a", "refund", "refund", True, "matches", prompt_tokens=412,
+                 completion_tokens=7, seconds=0.38)
+    assert cost_text(fresh) == "prompt 412 tokens + answer 7 tokens · 0.38 s"
+    cached = Mark("a", "refund", "refund", True, "matches", prompt_tokens=412,
+                  completion_tokens=7, seconds=0.38, cached=True)
+    assert cost_text(cached) == ("prompt 412 tokens + answer 7 tokens · 0.38 s when first "
+                                 "answered · answer taken from the cache")
+    older = Mark("a", "refund", "refund", True, "matches", prompt_tokens=412,
+                 completion_tokens=7, cached=True)  # saved before cached seconds were kept
+    assert cost_text(older).endswith("7 tokens when first answered · answer taken from "
+                                      "the cache")
