@@ -14,7 +14,6 @@ from honebench.commands import _print_grade
 from honebench.core.chart_cost_svg import cost_chart_svg, nice_ticks
 from honebench.core.cost import (cost_of, cost_points, front_of, front_steps, marks_cost,
                                  pareto_front, run_cost)
-from honebench.core.records import Mark
 from honebench.core.report import report_html
 from honebench.core.views import ShelfRow
 from honebench.core.wording import Wording
