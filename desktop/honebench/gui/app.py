@@ -20,7 +20,7 @@ from ..core.project import default_project_path, projects_dir
 from ..core.store import PROJECT_SUFFIX
 from .actions import make_action
 from .compare.control import CompareControl
-from .engine_bar import EngineBar, open_local_engine
+from .engine import EngineBar, open_engine
 from .grading.control import GradeControl
 from .grading.editor import WordingEditor
 from .grading.items import ItemViewer
@@ -49,7 +49,7 @@ class App:
     """The composed window and its features (plain references; see ``compose``)."""
 
     def __init__(self, runner: JobRunner, settings: QSettings, *,
-                 engine_factory=open_local_engine, quiet: bool = False):
+                 engine_factory=open_engine, quiet: bool = False):
         self.runner, self.settings = runner, settings
         w = self.window = MainWindow(runner, settings, quiet=quiet)
         problem, status = w.show_problem, w.status
@@ -226,6 +226,7 @@ class App:
             lambda names: w.status(f"Cancelled {names} to switch the model"))
         s.opened.connect(self._show_state)
         self.engine.settings_edited.connect(s.save_settings)
+        s.settings_changed.connect(self.engine.adopt_settings)
         s.busy = lambda: "A grade run is in progress." if self.grading.running else ""
         self.suggest.load_requested.connect(self.shelf.load_into_editor)
         self.suggest.status.connect(w.status)
@@ -324,7 +325,7 @@ class App:
             self.import_flow.start(path)
 
 
-def compose(runner: JobRunner, settings: QSettings, *, engine_factory=open_local_engine,
+def compose(runner: JobRunner, settings: QSettings, *, engine_factory=open_engine,
             quiet: bool = False) -> App:
     """Build the window with every feature (the same order for run_app and the tests)."""
     app = App(runner, settings, engine_factory=engine_factory, quiet=quiet)
