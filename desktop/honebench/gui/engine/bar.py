@@ -47,7 +47,8 @@ def item_text(choice: EngineChoice) -> str:
         from urllib.parse import urlsplit
 
         host = urlsplit(choice.url).netloc or choice.url
-        return f"{choice.model or 'Endpoint'} @ {host}"
+        model = choice.model if len(choice.model) <= 20 else choice.model[:19] + "…"
+        return f"{model or 'Endpoint'} @ {host}"
     if choice.kind == "file":
         return Path(choice.path).name
     return "Bundled: SmolLM2-135M"
@@ -282,6 +283,8 @@ class EngineBar(QWidget):
         index = self.choice.findData(choice.key())
         if index < 0:
             index = self._add_item(choice)
+            self.choice.setMinimumWidth(0)
+            self.choice.setMinimumWidth(self.choice.sizeHint().width() + 8)
         self.choice.setItemData(index, choice, CHOICE_ROLE)  # the latest timeout
         self.choice.setCurrentIndex(index)
 

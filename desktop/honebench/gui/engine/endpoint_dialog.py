@@ -57,7 +57,6 @@ class EndpointDialog(QDialog):
             label = QLabel(text)
             label.setBuddy(widget)
             form.addRow(label, widget)
-        form.addRow("", timeout_note)
         self.buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Ok |
                                         QDialogButtonBox.StandardButton.Cancel)
         self.buttons.button(QDialogButtonBox.StandardButton.Ok).setText("Use this endpoint")
@@ -66,6 +65,7 @@ class EndpointDialog(QDialog):
         layout = QVBoxLayout(self)
         layout.addWidget(intro)
         layout.addLayout(form)
+        layout.addWidget(timeout_note)
         layout.addWidget(self.error)
         layout.addWidget(self.buttons)
         self.url.textEdited.connect(lambda _t: self.error.hide())
@@ -87,9 +87,11 @@ class EndpointDialog(QDialog):
     def accept(self) -> None:
         why = self.problem()
         if why:
-            self.error.setText(f"<b>✗</b> {html.escape(why)}. Give the server's base URL, for example "
-                               f"{EXAMPLE_URL}.")
+            why = why[0].upper() + why[1:]
+            self.error.setText(f"<b>✗</b> {html.escape(why)}. Give the server's base URL, "
+                               f"for example {EXAMPLE_URL}.")
             self.error.show()
+            self.adjustSize()
             self.url.setFocus()
             self.url.selectAll()
             return
