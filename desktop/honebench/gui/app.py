@@ -173,9 +173,9 @@ class App:
             "Put the editor's wording on the shelf as the next version (Ctrl+K)", "keep",
             "Keep"), toolbar="grading")
         self.resume_action = w.add_action("run", act(
-            "&Resume interrupted run", self.grading.resume, "",
-            "Finish the latest grade run that stopped before finishing; the items it graded "
-            "come from the cache"))
+            "&Resume interrupted run", lambda: self.grading.resume(), "",
+            "Finish a grade run that stopped before finishing (you choose which when there "
+            "are several); the items it graded come from the cache"))
         w.add_separator("run")
         self.suggest_action = w.add_action("run", act(
             "Suggest &variants…", lambda: self._focus_dock("suggest", self.suggest.strategy),
