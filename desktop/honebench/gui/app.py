@@ -79,7 +79,8 @@ class App:
                                     selected_id=self.shelf_panel.selected_id)
         self.suggest.setAccessibleName("Suggestions")
         self.hone = HonePanel(runner, self.session, self.engine,
-                              editor_wording=self.editor.wording)
+                              editor_wording=self.editor.wording,
+                              proposers=self.suggest.proposers)
         self.hone.setAccessibleName("Auto-hone")
         self._layout()
         self._actions()
@@ -244,7 +245,7 @@ class App:
         w.file_dropped.connect(self._dropped)
         w.closing_hooks += [self.engine.commit_settings, self.session.save_draft, self.grading.cancel,
                             self.runner.cancel_model_jobs, self.items.close]
-        w.closed_hooks.append(self.engine.close_engine)
+        w.closed_hooks += [self.suggest.close_proposer, self.engine.close_engine]
         self.update_actions()
         self.engine.load_remembered()
 
