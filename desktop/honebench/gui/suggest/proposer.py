@@ -58,6 +58,7 @@ class ProposerChoice(QComboBox):
             index = self.count() - 1
             self.setItemData(index, engine, CHOICE_ROLE)
             self.setItemData(index, engine.label(), Qt.ItemDataRole.ToolTipRole)
+        self.insertSeparator(self.count())
         self.addItem("GGUF file…", ASK_FILE)
         self.addItem("Endpoint…", ASK_ENDPOINT)
         index = 0 if choice is None else self.findData(choice.key())
@@ -123,6 +124,7 @@ class Proposers(QObject):
         chosen or the choice is the graded engine itself."""
         graded = self.bar.handle
         if choice is None or (graded is not None and choice.key() == graded.choice.key()):
+            self.release()  # no second copy of the graded engine stays open
             return Lease(None, None, None)
         cached = self.handle if self.handle is not None and self.handle.choice == choice \
             else None
