@@ -12,6 +12,7 @@ import threading
 from pathlib import Path
 
 from .core.checks import CheckSpec
+from .core.engines.base import EngineError
 from .core.events import Finished, Marked, Stage, Started, progress_text
 from .core.project import (Project, column_mapping, default_project_path, project_file,
                            read_question_set)
@@ -77,6 +78,10 @@ def _with_engine(args, work):
         engine.close()
 
 
+def _suggest_flags(args) -> bool:
+    return bool(getattr(args, "suggest_model", None) or getattr(args, "suggest_endpoint", None))
+
+
 def _with_engines(args, project: Project, work):
     """``work(engine, proposer)``: the graded engine and the one that writes suggestions
     (the flags', else the project's suggestion engine; the graded engine itself when it is
@@ -87,8 +92,14 @@ def _with_engines(args, project: Project, work):
     choice = suggest_engine_choice(args, project.settings().suggest_engine)
     if choice is None or choice.key() == graded.key():
         return _with_engine(args, lambda engine: work(engine, engine))
-    choice.check()  # a bad file or a silent server is refused before the graded model loads
-    proposer = choice.open()
+    try:  # a bad file or a silent server is refused before the graded model loads
+        choice.check()
+        proposer = choice.open()
+    except EngineError as exc:
+        where = ("the project's suggestion engine (change it in the window's Proposals by, "
+                 "or give --suggest-model / --suggest-endpoint)" if not _suggest_flags(args)
+                 else "the suggestion engine")
+        raise EngineError(f"{exc}\n(This is {where}; nothing was graded.)") from None
     try:
         return _with_engine(args, lambda engine: work(engine, proposer))
     finally:
