@@ -116,6 +116,7 @@ def test_the_setting_is_saved_validated_and_not_part_of_the_cache_key(project):
     assert project.settings().as_dict()["suggest_engine"]["url"] == "http://127.0.0.1:9/v1"
     # an older project has no such key: the graded engine writes
     assert ProjectSettings.from_dict({"max_tokens": 9}).suggest_engine is None
+    assert ProjectSettings.from_dict({"suggest_engine": "x.gguf"}).suggest_engine is None
     with pytest.raises(ValueError, match="suggestion engine: .*http://"):
         project.set_settings(ProjectSettings(suggest_engine=EngineChoice.endpoint("host:1")))
     with pytest.raises(ValueError, match="suggestion engine"):

@@ -99,6 +99,16 @@ def test_proposals_by_another_engine(qtbot, runner, settings, tmp_path, sample_d
     run_suggest(qtbot, suggest, "rephrase", 2)
     assert len(writers) == 1 and len(writers[0].asked) == 5
 
+    # auto-hone asks the same suggestion engine, still open
+    hone = app.hone
+    hone.strategy.setCurrentIndex(hone.strategy.findData("rephrase"))
+    hone.rounds_spin.setValue(1)
+    hone.per_round.setValue(2)
+    with qtbot.waitSignal(hone.finished, timeout=WAIT):
+        hone.start()
+    assert len(writers) == 1 and len(writers[0].asked) == 7
+    assert not any(ASK in t for t in graded_asked)
+
     # back to the graded engine: saved, and the suggestion engine is closed on the lane
     same = suggest.proposer.findData("same")
     suggest.proposer.setCurrentIndex(same)

@@ -75,4 +75,7 @@ class ProjectSettings:
     def from_dict(cls, saved: dict | None) -> "ProjectSettings":
         """Read saved settings; unknown keys are ignored, missing ones take the defaults."""
         known = {f.name for f in fields(cls)}
-        return cls(**{k: v for k, v in (saved or {}).items() if k in known})
+        values = {k: v for k, v in (saved or {}).items() if k in known}
+        if not isinstance(values.get("suggest_engine"), dict):  # missing or unreadable
+            values["suggest_engine"] = None
+        return cls(**values)
