@@ -75,6 +75,7 @@ def build_parser() -> argparse.ArgumentParser:
     s.add_argument("--keep-best", action="store_true",
                    help="keep the top suggestion if it beats the current wording")
     _engine_args(s)
+    _suggest_engine_args(s)
     s.add_argument("--json", action="store_true")
 
     h = verbs.add_parser("hone", help="run rounds of suggestions unattended")
@@ -86,6 +87,7 @@ def build_parser() -> argparse.ArgumentParser:
     h.add_argument("--seconds", type=float, help="time budget")
     h.add_argument("--model-calls", type=int, help="model-call budget")
     _engine_args(h)
+    _suggest_engine_args(h)
     h.add_argument("--json", action="store_true")
 
     c = verbs.add_parser("confirm", help="grade a shelf version on the held-out items")
@@ -146,6 +148,20 @@ def _engine_args(p: argparse.ArgumentParser, generation: bool = True) -> None:
                         "project's setting)")
 
 
+def _suggest_engine_args(p: argparse.ArgumentParser) -> None:
+    """Who writes the suggestions, for this run only (default: the project's suggestion
+    engine, else the graded engine); the graded engine still scores them."""
+    p.add_argument("--suggest-model", metavar="FILE", help="a GGUF file that writes the "
+                   "suggestions (default: the project's suggestion engine, at first the "
+                   "graded engine)")
+    p.add_argument("--suggest-endpoint", metavar="URL", help="an OpenAI-protocol endpoint "
+                   "that writes the suggestions, e.g. http://127.0.0.1:8080/v1")
+    p.add_argument("--suggest-endpoint-model", default="", metavar="NAME",
+                   help="model name to ask the suggestion endpoint for")
+    p.add_argument("--suggest-timeout", type=float, metavar="SECONDS", help="how long the "
+                   "suggestion endpoint may take per request (default: --timeout)")
+
+
 def main(argv: list[str] | None = None) -> int:
     args = build_parser().parse_args(argv)
     try:
@@ -179,6 +195,22 @@ def engine_choice(args):
     if getattr(args, "model", None):
         return EngineChoice.file(args.model)
     return EngineChoice.bundled()
+
+
+def suggest_engine_choice(args, saved=None):
+    """The engine that writes suggestions: --suggest-endpoint or --suggest-model for this
+    run, else ``saved`` (the project's setting), else None (the graded engine writes)."""
+    from .core.engines.choice import EngineChoice
+
+    if getattr(args, "suggest_endpoint", None) and getattr(args, "suggest_model", None):
+        raise ValueError("give --suggest-model FILE or --suggest-endpoint URL, not both")
+    if getattr(args, "suggest_endpoint", None):
+        timeout = args.suggest_timeout if args.suggest_timeout is not None else args.timeout
+        return EngineChoice.endpoint(args.suggest_endpoint, args.suggest_endpoint_model or "",
+                                     timeout=timeout).validate()
+    if getattr(args, "suggest_model", None):
+        return EngineChoice.file(args.suggest_model).validate()
+    return saved
 
 
 def open_engine(args):

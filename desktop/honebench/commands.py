@@ -12,6 +12,7 @@ import threading
 from pathlib import Path
 
 from .core.checks import CheckSpec
+from .core.engines.base import EngineError
 from .core.events import Finished, Marked, Stage, Started, progress_text
 from .core.project import (Project, column_mapping, default_project_path, project_file,
                            read_question_set)
@@ -75,6 +76,34 @@ def _with_engine(args, work):
         return work(engine)
     finally:
         engine.close()
+
+
+def _suggest_flags(args) -> bool:
+    return bool(getattr(args, "suggest_model", None) or getattr(args, "suggest_endpoint", None))
+
+
+def _with_engines(args, project: Project, work):
+    """``work(engine, proposer)``: the graded engine and the one that writes suggestions
+    (the flags', else the project's suggestion engine; the graded engine itself when it is
+    the same one). Both are checked before any model is loaded."""
+    from .cli import engine_choice, suggest_engine_choice
+
+    graded = engine_choice(args).validate()
+    choice = suggest_engine_choice(args, project.settings().suggest_engine)
+    if choice is None or choice.key() == graded.key():
+        return _with_engine(args, lambda engine: work(engine, engine))
+    try:  # a bad file or a silent server is refused before the graded model loads
+        choice.check()
+        proposer = choice.open()
+    except EngineError as exc:
+        where = ("the project's suggestion engine (change it in the window's Proposals by, "
+                 "or give --suggest-model / --suggest-endpoint)" if not _suggest_flags(args)
+                 else "the suggestion engine")
+        raise EngineError(f"{exc}\n(This is {where}; nothing was graded.)") from None
+    try:
+        return _with_engine(args, lambda engine: work(engine, proposer))
+    finally:
+        proposer.close()
 
 
 # -- grade --------------------------------------------------------------------------------
@@ -181,11 +210,11 @@ def suggest_verb(args) -> int:
         base = project.shelf_entry(args.base).id if args.base else None
         other = project.shelf_entry(args.other).id if args.other else None
         settings = run_settings(project, args)
-        done = _with_engine(args, lambda engine: project.suggest(
+        done = _with_engines(args, project, lambda engine, proposer: project.suggest(
             engine, args.strategy, count=args.count, base=base, other=other,
             proposal_temperature=args.proposal_temperature, keep_best=args.keep_best,
             settings=settings, on_event=ProgressPrinter(quiet=args.json),
-            cancel=threading.Event()))
+            cancel=threading.Event(), proposer=proposer))
         _print_suggestions(done.value, args)
     finally:
         project.close()
@@ -200,7 +229,8 @@ def _print_suggestions(result, args) -> None:
             "passed": c.score.passed, "total": c.score.total,
             "interval": [c.score.low, c.score.high], "fixed": c.paired.fixed,
             "broken": c.paired.broken, "p_value": c.paired.p_value, "strategy": c.strategy,
-            "inputs": c.inputs, "run_id": c.run_id} for c in outcome.cards],
+            "proposer": c.proposer, "inputs": c.inputs, "run_id": c.run_id}
+            for c in outcome.cards],
             indent=2, ensure_ascii=False))
         return
     print(f"current wording: {outcome.base_score.text()}")
@@ -210,6 +240,7 @@ def _print_suggestions(result, args) -> None:
     for i, card in enumerate(outcome.cards, 1):
         print(f"\n[{i}] {card.score.text()}; {card.change_text(outcome.base_score)}")
         print(f"    {card.text}")
+        print(f"    written by {card.proposer}")
     if outcome.dropped:
         print(f"\ndropped: {'; '.join(outcome.dropped)}")
     if outcome.rule:
@@ -233,15 +264,26 @@ def hone_verb(args) -> int:
             held = f", held-out {rnd.held_out.text()}" if rnd.held_out else ""
             print(f"round {rnd.number}: best {rnd.best_tuning.text()}{kept}{held}", flush=True)
 
+    written_by = []
+
+    def run(engine, proposer):
+        from .core.engines.choice import engine_label
+
+        written_by.append("" if args.strategy == "phrase-edits" else engine_label(proposer))
+        if written_by[0] and not args.json:
+            print(f"suggestions written by {written_by[0]}, graded by "
+                  f"{engine_label(engine)}", flush=True)
+        return project.hone(engine, strategy=args.strategy, budget=budget, settings=settings,
+                            on_round=show, cancel=threading.Event(), proposer=proposer)
+
     try:
         settings = run_settings(project, args)
-        outcome = _with_engine(args, lambda engine: project.hone(
-            engine, strategy=args.strategy, budget=budget, settings=settings, on_round=show,
-            cancel=threading.Event())).value
+        outcome = _with_engines(args, project, run).value
     finally:
         project.close()
     if args.json:
         print(json.dumps({"session": outcome.session, "stop_reason": outcome.stop_reason,
+                          "proposer": written_by[0] or "no model (phrase edits)",
                           "rounds": [{
                               "round": r.number, "best_wording": r.best_text,
                               "best_tuning": r.best_tuning.rate,

@@ -160,7 +160,8 @@ def test_suggest_keep_set_aside_and_reopen(qtbot, runner, settings, tmp_path, sa
     assert first.change.text().startswith("▲ +27 points") and "fixes 3, breaks 0" in \
         first.change.text()
     assert "<s" in first.diff.text() and "<u" in first.diff.text()
-    assert first.origin.text() == "Strategy: rephrase of the editor's wording"
+    assert first.origin.text() == ("Strategy: rephrase of the editor's wording\n"
+                                   "Written by: fake-engine")  # the graded engine wrote it
     first.grab().save(str(snap_dir() / "suggest_card.png"))
 
     with qtbot.waitSignal(suggest.decided, timeout=WAIT):

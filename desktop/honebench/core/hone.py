@@ -51,9 +51,10 @@ def hone(project, engine, *, strategy: str = "scoreboard", budget: HoneBudget = 
          on_round: Callable[[HoneRound], None] | None = None,
          progress: Callable[[str, int, int], None] | None = None,
          cancel: threading.Event | None = None,
-         on_event: Listener | None = None) -> HoneOutcome:
+         on_event: Listener | None = None, proposer=None) -> HoneOutcome:
     """Rounds of suggestions from ``start`` (default: the draft); ``params`` default to the
-    project's settings. Each finished round goes to ``on_round`` and as a Stage event."""
+    project's settings. ``proposer`` writes the suggestions (default: ``engine``, which
+    grades everything). Each finished round goes to ``on_round`` and as a Stage event."""
     cancel = cancel or threading.Event()
     params = params or project.settings().params()
     began = time.perf_counter()
@@ -71,7 +72,7 @@ def hone(project, engine, *, strategy: str = "scoreboard", budget: HoneBudget = 
         t0 = time.perf_counter()
         result = suggest(project, engine, strategy, count=budget.per_round, base=best,
                          seed=seed + number * 101, params=params, progress=progress,
-                         cancel=cancel, on_event=on_event)
+                         cancel=cancel, on_event=on_event, proposer=proposer)
         calls += result.model_calls
         kept_id, held = None, None
         top = result.cards[0] if result.cards else None

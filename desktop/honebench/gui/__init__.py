@@ -11,8 +11,10 @@ Where things are:
                   model lane (one model user at a time, others wait visibly), and
                   project_changed(Changes) after every operation that returns Done
     actions.py    the one action builder;  tables.py  the table-model base;
-    paths.py      the save-path helper;    engine_bar.py  choosing and loading the model,
-                  and the project's settings (temperature, max tokens, answer mode)
+    paths.py      the save-path helper
+    engine/       the engine bar (the graded engine: bundled model, GGUF file or endpoint,
+                  and the project's settings: temperature, max tokens, answer mode), the
+                  endpoint dialog, remembered engines, EngineHandle
     snapshot.py   `honebench gui --snapshot`;  tour.py  help and the guided tour
     project/      operations.py (EVERY user act, no Qt, each one core.Project call: grade,
                   confirm, compare, suggest, hone, keep, set_aside, restore, set_note,

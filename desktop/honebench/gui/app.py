@@ -20,7 +20,7 @@ from ..core.project import default_project_path, projects_dir
 from ..core.store import PROJECT_SUFFIX
 from .actions import make_action
 from .compare.control import CompareControl
-from .engine_bar import EngineBar, open_local_engine
+from .engine import EngineBar, open_engine
 from .grading.control import GradeControl
 from .grading.editor import WordingEditor
 from .grading.items import ItemViewer
@@ -49,7 +49,7 @@ class App:
     """The composed window and its features (plain references; see ``compose``)."""
 
     def __init__(self, runner: JobRunner, settings: QSettings, *,
-                 engine_factory=open_local_engine, quiet: bool = False):
+                 engine_factory=open_engine, quiet: bool = False):
         self.runner, self.settings = runner, settings
         w = self.window = MainWindow(runner, settings, quiet=quiet)
         problem, status = w.show_problem, w.status
@@ -79,7 +79,8 @@ class App:
                                     selected_id=self.shelf_panel.selected_id)
         self.suggest.setAccessibleName("Suggestions")
         self.hone = HonePanel(runner, self.session, self.engine,
-                              editor_wording=self.editor.wording)
+                              editor_wording=self.editor.wording,
+                              proposers=self.suggest.proposers)
         self.hone.setAccessibleName("Auto-hone")
         self._layout()
         self._actions()
@@ -173,9 +174,9 @@ class App:
             "Put the editor's wording on the shelf as the next version (Ctrl+K)", "keep",
             "Keep"), toolbar="grading")
         self.resume_action = w.add_action("run", act(
-            "&Resume interrupted run", self.grading.resume, "",
-            "Finish the latest grade run that stopped before finishing; the items it graded "
-            "come from the cache"))
+            "&Resume interrupted run", lambda: self.grading.resume(), "",
+            "Finish a grade run that stopped before finishing (you choose which when there "
+            "are several); the items it graded come from the cache"))
         w.add_separator("run")
         self.suggest_action = w.add_action("run", act(
             "Suggest &variants…", lambda: self._focus_dock("suggest", self.suggest.strategy),
@@ -226,6 +227,7 @@ class App:
             lambda names: w.status(f"Cancelled {names} to switch the model"))
         s.opened.connect(self._show_state)
         self.engine.settings_edited.connect(s.save_settings)
+        s.settings_changed.connect(self.engine.adopt_settings)
         s.busy = lambda: "A grade run is in progress." if self.grading.running else ""
         self.suggest.load_requested.connect(self.shelf.load_into_editor)
         self.suggest.status.connect(w.status)
@@ -243,7 +245,7 @@ class App:
         w.file_dropped.connect(self._dropped)
         w.closing_hooks += [self.engine.commit_settings, self.session.save_draft, self.grading.cancel,
                             self.runner.cancel_model_jobs, self.items.close]
-        w.closed_hooks.append(self.engine.close_engine)
+        w.closed_hooks += [self.suggest.close_proposer, self.engine.close_engine]
         self.update_actions()
         self.engine.load_remembered()
 
@@ -324,7 +326,7 @@ class App:
             self.import_flow.start(path)
 
 
-def compose(runner: JobRunner, settings: QSettings, *, engine_factory=open_local_engine,
+def compose(runner: JobRunner, settings: QSettings, *, engine_factory=open_engine,
             quiet: bool = False) -> App:
     """Build the window with every feature (the same order for run_app and the tests)."""
     app = App(runner, settings, engine_factory=engine_factory, quiet=quiet)

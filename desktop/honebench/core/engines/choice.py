@@ -62,6 +62,16 @@ class EngineChoice:
             return f"{self.model or 'endpoint'} at {self.url}"
         return "bundled SmolLM2-135M"
 
+    def key(self) -> str:
+        """One string naming the engine (to find or remember it): "" for the bundled model,
+        the file's path, or the endpoint's address and model name (the timeout is left
+        out: it does not change which engine this is)."""
+        if self.kind == "file":
+            return self.path
+        if self.kind == "endpoint":
+            return f"{self.url}#{self.model}"
+        return ""
+
     def check(self) -> None:
         """Refuse a bad choice without loading a model (an endpoint is asked once)."""
         self.validate()
@@ -89,3 +99,28 @@ class EngineChoice:
     def from_dict(cls, saved: dict | None) -> "EngineChoice":
         known = {f.name for f in fields(cls)}
         return cls(**{k: v for k, v in (saved or {}).items() if k in known})
+
+
+BUNDLED_LABEL = EngineChoice().label()
+
+
+def engine_label(engine) -> str:
+    """The short name of an open engine, in ``EngineChoice.label()``'s words (what a
+    suggestion records as the engine that proposed it)."""
+    kind = getattr(engine, "kind", "")
+    if kind == "endpoint":
+        return EngineChoice.endpoint(engine.base_url, engine.model).label()
+    if kind == "local":
+        from .model_files import bundled_model_path
+
+        try:
+            bundled = bundled_model_path()
+        except EngineError:
+            bundled = None
+        path = engine.model_path
+        return BUNDLED_LABEL if bundled is not None and path == bundled else path.name
+    label = getattr(engine, "label", None)
+    if callable(label):
+        return str(label())
+    fingerprint = getattr(engine, "fingerprint", None)
+    return str(fingerprint()) if callable(fingerprint) else str(kind or "engine")

@@ -21,9 +21,11 @@ class ImproveOps:
                 base: Wording | int | None = None, other: int | None = None,
                 proposal_temperature: float = 1.0, keep_best: bool = False,
                 settings: ProjectSettings | None = None, on_event: Listener | None = None,
-                cancel: threading.Event | None = None) -> Done[SuggestResult]:
+                cancel: threading.Event | None = None, proposer=None) -> Done[SuggestResult]:
         """Scored variants of ``base`` (a wording, a shelf id, or the draft); ``other`` is
-        the second shelf id for blend. With ``keep_best`` the top suggestion is kept when it
+        the second shelf id for blend. ``proposer`` is the engine that writes the variants
+        (the suggestion engine; default: ``engine``); ``engine`` grades them. Each card's
+        inputs name the proposer. With ``keep_best`` the top suggestion is kept when it
         beats the base on the tuning items (the base is kept as its parent)."""
         from ..suggest.pipeline import suggest
 
@@ -34,7 +36,8 @@ class ImproveOps:
             base = Wording(entry.text, entry.placement)
         outcome = suggest(self, engine, strategy, count=count, base=base, other_id=other,
                           seed=settings.seed, temperature=proposal_temperature,
-                          params=settings.params(), cancel=cancel, on_event=on_event)
+                          params=settings.params(), cancel=cancel, on_event=on_event,
+                          proposer=proposer)
         kept = None
         if (keep_best and outcome.cards and not outcome.cancelled
                 and outcome.cards[0].score.rate > outcome.base_score.rate):
@@ -50,9 +53,10 @@ class ImproveOps:
     def hone(self, engine, *, strategy: str = "scoreboard", budget=None,
              start: Wording | None = None, settings: ProjectSettings | None = None,
              on_round: Callable | None = None, on_event: Listener | None = None,
-             cancel: threading.Event | None = None) -> Done:
+             cancel: threading.Event | None = None, proposer=None) -> Done:
         """Auto-hone rounds from ``start`` (default: the draft) within ``budget``
-        (core.hone.HoneBudget). Each round is committed as it ends and sent to ``on_round``
+        (core.hone.HoneBudget); ``proposer`` writes the suggestions (default: ``engine``,
+        which grades them). Each round is committed as it ends and sent to ``on_round``
         (a HoneRound) and as a Stage event. Returns Done[HoneOutcome]."""
         from ..hone import HoneBudget, hone
 
@@ -60,7 +64,8 @@ class ImproveOps:
         settings = settings or self.settings()
         outcome = hone(self, engine, strategy=strategy, budget=budget or HoneBudget(),
                        start=start, params=settings.params(), seed=settings.seed,
-                       on_round=on_round, cancel=cancel, on_event=on_event)
+                       on_round=on_round, cancel=cancel, on_event=on_event,
+                       proposer=proposer)
         if on_event:
             on_event(Finished("cancelled" if outcome.stop_reason == "cancelled" else "finished",
                               time.perf_counter() - began))

@@ -1,5 +1,8 @@
 """The shared pipeline: propose -> clean -> drop duplicates -> score with early stopping.
 
+Two engines may take part: the proposer writes the variants (the suggestion engine; by
+default the graded engine itself) and the graded engine scores every one of them.
+
 Candidates are scored on tuning items only. A first slice of items is graded for every
 candidate at once; a candidate whose 95% interval on that slice lies wholly below the current
 wording's tuning score cannot plausibly beat it and stops there. The rest are graded on all
@@ -39,6 +42,11 @@ class Card:
     run_id: int
     paired: Paired
     diff: list
+
+    @property
+    def proposer(self) -> str:
+        """Who wrote this suggestion: an engine's label, or no model (phrase edits)."""
+        return str((self.inputs or {}).get("proposer", ""))
 
     def change_text(self, base: Score) -> str:
         points = round((self.score.rate - base.rate) * 100)
@@ -110,10 +118,12 @@ def suggest(project, engine, strategy: str, *, count: int = 4, base: Wording | N
             params: Params | None = None, early_slice: int | None = None,
             progress: Callable[[str, int, int], None] | None = None,
             cancel: threading.Event | None = None,
-            on_event: Listener | None = None) -> SuggestOutcome:
-    """Propose, clean and score variants of ``base`` (default: the draft). Progress goes to
-    ``on_event`` as Stage and Marked events (and to the older ``progress(stage, done,
-    total)`` callback); ``params`` default to the project's settings."""
+            on_event: Listener | None = None, proposer=None) -> SuggestOutcome:
+    """Propose, clean and score variants of ``base`` (default: the draft). ``proposer``
+    writes the variants (default: ``engine``); ``engine`` grades the base and every
+    variant. Progress goes to ``on_event`` as Stage and Marked events (and to the older
+    ``progress(stage, done, total)`` callback); ``params`` default to the project's
+    settings."""
     start = time.perf_counter()
     cancel = cancel or threading.Event()
     params = params or project.settings().params()
@@ -135,8 +145,9 @@ def suggest(project, engine, strategy: str, *, count: int = 4, base: Wording | N
         outcome.cancelled = True
         return outcome
     report(f"asking for suggestions ({STRATEGY_LABELS[strategy]})", 0, count)
-    batch = propose(strategy, build_context(project, base, marks, other_id), engine,
-                    count=count, seed=seed, temperature=temperature)
+    batch = propose(strategy, build_context(project, base, marks, other_id),
+                    proposer if proposer is not None else engine, count=count, seed=seed,
+                    temperature=temperature)
     outcome.notes, outcome.dropped = batch.notes, list(batch.dropped)
     outcome.model_calls += len(batch.prompts)
     known = [(e.label, e.text) for e in project.store.shelf()] + [("the current wording", base.text)]

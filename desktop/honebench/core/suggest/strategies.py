@@ -3,9 +3,10 @@ proposals; only tuning items are ever put in a meta-prompt."""
 from __future__ import annotations
 
 import random
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from ..engines.base import Request
+from ..engines.choice import engine_label
 from ..records import Mark
 from ..sets import Item
 from ..templates import template
@@ -25,6 +26,7 @@ SCOREBOARD_SIZE = 20
 EXAMPLES = 3
 MAX_MISSES = 5
 PROPOSAL_TOKENS = 80
+NO_MODEL = {"phrase-edits": "no model (phrase edits)", "crossover": "no model (sentence crossover)"}
 
 
 @dataclass(frozen=True)
@@ -45,7 +47,7 @@ class SuggestContext:
 class Proposal:
     text: str
     strategy: str
-    inputs: dict  # what it came from: parent, other entry, diagnosis, edit
+    inputs: dict  # what it came from: parent, other entry, diagnosis, edit, proposer
 
 
 @dataclass
@@ -108,10 +110,24 @@ def _collect(batch: ProposalBatch, replies: list[str], strategy: str, inputs: di
 
 def propose(strategy: str, ctx: SuggestContext, engine, *, count: int, seed: int = 0,
             temperature: float = 1.0) -> ProposalBatch:
-    """Ask for ``count`` variants with one strategy. Model replies are cleaned here; the
-    pipeline de-duplicates and scores them."""
+    """Ask ``engine`` (the proposer) for ``count`` variants with one strategy. Model replies
+    are cleaned here; the pipeline de-duplicates and scores them. Each proposal's inputs
+    name who wrote it (``inputs["proposer"]``: the engine's label, or no model)."""
     if strategy not in STRATEGIES:
         raise ValueError(f"strategy must be one of {', '.join(STRATEGIES)}, not {strategy!r}")
+    batch = _propose(strategy, ctx, engine, count=count, seed=seed, temperature=temperature)
+    label = None
+    for i, prop in enumerate(batch.proposals):
+        if prop.strategy == "phrase-edits" or prop.inputs.get("fallback") == "crossover":
+            who = NO_MODEL["phrase-edits" if prop.strategy == "phrase-edits" else "crossover"]
+        else:
+            who = label = label or engine_label(engine)
+        batch.proposals[i] = replace(prop, inputs={**prop.inputs, "proposer": who})
+    return batch
+
+
+def _propose(strategy: str, ctx: SuggestContext, engine, *, count: int, seed: int,
+             temperature: float) -> ProposalBatch:
     batch = ProposalBatch()
     rng = random.Random(seed)
     parent = {"parent_id": ctx.base_id}

@@ -16,6 +16,7 @@ from ..project.session import ProjectSession
 from ...core.project import SPLIT_WORDS
 from ...core.views import GradeResult
 from ..project.state import interrupted_text, run_caption
+from .resume_picker import pick_interrupted_run
 from .sheet import GradeSheetPanel
 
 
@@ -31,6 +32,8 @@ class GradeControl(QObject):
     """Signals: ``started(Job)``, ``finished(GradeResult)``, ``failed(str)``,
     ``running_changed(bool)``."""
 
+    # which interrupted run to resume: (runs, dialog parent) -> run id or None (tests swap it)
+    choose_run = staticmethod(pick_interrupted_run)
     started = Signal(object)
     finished = Signal(object)
     failed = Signal(str)
@@ -99,9 +102,10 @@ class GradeControl(QObject):
         self.started.emit(self.job)
         return self.job
 
-    def resume(self) -> Job | None:
-        """Finish the latest interrupted grade run as a new run, in a job on the model lane;
-        marks stream into the sheet (those it had come from the cache)."""
+    def resume(self, run_id: int | None = None) -> Job | None:
+        """Finish an interrupted grade run as a new run, in a job on the model lane; marks
+        stream into the sheet (those it had come from the cache). Without ``run_id``: the
+        only one, or the one the user picks when there are several."""
         state = self.session.state
         if self.job is not None or state is None or not state.interrupted:
             return None
@@ -110,7 +114,15 @@ class GradeControl(QObject):
             self.show_problem("The model is still loading",
                               "Resume the interrupted run once the model has loaded.")
             return None
-        latest = state.interrupted[-1].run
+        if run_id is None:
+            run_id = self.choose_run(state.interrupted, self.parent())
+            if run_id is None:
+                return None
+        latest = next((u.run for u in state.interrupted if u.run.id == run_id), None)
+        if latest is None:
+            self.show_problem("No such interrupted run",
+                              f"Run {run_id} is not among the interrupted runs.")
+            return None
         self.sheet.start_run(0, state.expected,
                              f"Resuming run {latest.id} (graded items come from the cache)…")
         self.status(f"Resuming run {latest.id}…")

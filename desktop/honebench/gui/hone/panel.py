@@ -44,9 +44,12 @@ class HonePanel(QWidget):
     finished = Signal(object)
 
     def __init__(self, runner: JobRunner, session: ProjectSession, engine, *,
-                 editor_wording: Callable[[], Wording], parent=None):
+                 editor_wording: Callable[[], Wording], proposers=None, parent=None):
+        """``proposers``: the suggestion engine the suggestions panel keeps open
+        (suggest.proposer.Proposers); None: the graded engine writes the suggestions."""
         super().__init__(parent)
         self.runner, self.session, self.engine = runner, session, engine
+        self.proposers = proposers
         self.editor_wording = editor_wording
         session.opened.connect(self.set_project)
         self.job: Job | None = None
@@ -217,13 +220,25 @@ class HonePanel(QWidget):
         self.chart.set_rounds(budget.rounds)
         self.result.setText("")
         self.settings_toggle.setChecked(False)  # room for the table and the chart
+        lease = self.proposers.lease(state.settings.suggest_engine) if self.proposers else None
+
+        def settled(then):
+            def after(*args):
+                if lease is not None:
+                    state = self.session.state
+                    self.proposers.settle(lease, state.settings.suggest_engine
+                                          if state is not None else None)
+                then(*args)
+            return after
+
         self.job = self.runner.submit(
             lambda ctx: operations.hone(project, handle, wording=wording, strategy=strategy,
                                         budget=budget, settings=settings,
-                                        cancel=ctx.cancel_event, on_event=ctx.report),
-            done=self._finished, failed=self._failed, progress=self._progress,
-            cancelled=lambda: self._finished(None), name="auto-hone",
-            uses_model=True)
+                                        cancel=ctx.cancel_event, on_event=ctx.report,
+                                        proposer=lease.open() if lease else None),
+            done=settled(self._finished), failed=settled(self._failed),
+            progress=self._progress, cancelled=settled(lambda: self._finished(None)),
+            name="auto-hone", uses_model=True)
         self._show_running()
         return self.job
 

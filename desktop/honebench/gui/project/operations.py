@@ -9,6 +9,7 @@ mechanism then emits ``project_changed(changes)`` and hands ``value`` to the vie
 """
 from __future__ import annotations
 
+import contextlib
 import threading
 import time
 from dataclasses import dataclass
@@ -161,24 +162,36 @@ class Resumed:
 # -- suggestions and auto-hone -----------------------------------------------------------
 def suggest(project, engine, *, strategy: str, count: int, base: Wording,
             other_id: int | None, settings: ProjectSettings | None = None, cancel=None,
-            on_event: Listener = _quiet) -> Done:
-    """Ask the model for scored variants (nothing is put on the shelf until kept).
+            on_event: Listener = _quiet, proposer=None) -> Done:
+    """Ask the model for scored variants (nothing is put on the shelf until kept);
+    ``proposer`` (a handle; None: ``engine``) writes them, ``engine`` scores them.
     Returns Done[SuggestOutcome]."""
-    with engine as model:
+    with engine as model, _using(proposer, model) as writer:
         done = project.suggest(model, strategy, count=count, base=base, other=other_id,
                                settings=settings, on_event=_Watch(project, on_event),
-                               cancel=cancel)
+                               cancel=cancel, proposer=writer)
     return Done(done.value.outcome, done.changes)
+
+
+@contextlib.contextmanager
+def _using(handle, default):
+    """The engine of ``handle`` while it is in use, or ``default`` when there is none."""
+    if handle is None:
+        yield default
+    else:
+        with handle as engine:
+            yield engine
 
 
 def hone(project, engine, *, wording: Wording, strategy: str, budget,
          settings: ProjectSettings | None = None, cancel=None,
-         on_event: Listener = _quiet) -> Done:
+         on_event: Listener = _quiet, proposer=None) -> Done:
     """Rounds of suggestions, unattended. Sends Stage events, a RoundDone for the start and
     one per round and, after each round, the shelf change (the runner emits
-    project_changed at once). Returns Done[HoneOutcome]."""
+    project_changed at once). ``proposer`` (a handle; None: ``engine``) writes the
+    suggestions. Returns Done[HoneOutcome]."""
     watch = _Watch(project, on_event)
-    with engine as model:
+    with engine as model, _using(proposer, model) as writer:
         start = project.grade(model, wording, split="tuning", settings=settings,
                               on_event=watch, cancel=cancel)
         on_event(RoundDone(start.value.score, "start"))
@@ -190,7 +203,7 @@ def hone(project, engine, *, wording: Wording, strategy: str, budget,
 
         return project.hone(model, strategy=strategy, budget=budget, start=wording,
                             settings=settings, on_round=on_round, on_event=watch,
-                            cancel=cancel)
+                            cancel=cancel, proposer=writer)
 
 
 # -- the shelf ---------------------------------------------------------------------------

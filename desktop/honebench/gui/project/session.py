@@ -20,12 +20,15 @@ DRAFT_SAVE_MS = 1000
 
 class ProjectSession(QObject):
     """Signals: ``opened(ProjectState)`` when a project (or a newly imported set) is shown,
-    ``open_failed(str)``, ``draft_saved(Wording)``, ``settings_saved(ProjectSettings)``, ``import_requested(path, is_sample)``
+    ``open_failed(str)``, ``draft_saved(Wording)``, ``settings_changed(ProjectSettings)``
+    at once when the settings are changed (views that hold a copy take it),
+    ``settings_saved(ProjectSettings)`` once saved, ``import_requested(path, is_sample)``
     after opening with a question set to import."""
 
     opened = Signal(object)
     open_failed = Signal(str)
     draft_saved = Signal(object)
+    settings_changed = Signal(object)
     settings_saved = Signal(object)
     import_requested = Signal(str, bool)
 
@@ -112,11 +115,13 @@ class ProjectSession(QObject):
 
     # -- the project's settings ----------------------------------------------------------
     def save_settings(self, settings: ProjectSettings) -> Job | None:
-        """Make ``settings`` (max tokens, temperature, seed, answer mode) the project's own,
+        """Make ``settings`` (max tokens, temperature, seed, answer mode, suggestion engine)
+        the project's own,
         shared with the CLI, in a job; the runner then emits project_changed(settings)."""
         if self.state is None or settings == self.state.settings:
             return None
         project, self.state.settings = self.state.project, settings
+        self.settings_changed.emit(settings)
         return self.runner.submit(
             lambda ctx: operations.set_settings(project, settings=settings),
             done=self.settings_saved.emit, name="save the settings",

@@ -137,7 +137,7 @@ class SuggestionCard(QFrame):
         self.origin = QLabel()
         self.origin.setTextFormat(Qt.TextFormat.PlainText)
         self.origin.setWordWrap(True)
-        self.origin.setAccessibleName(f"Suggestion {number} strategy and inputs")
+        self.origin.setAccessibleName(f"Suggestion {number} strategy, inputs and who wrote it")
         for label in (self.diff_title, self.origin):
             small = label.font()
             small.setPointSizeF(small.pointSizeF() * 0.9)
@@ -183,7 +183,9 @@ class SuggestionCard(QFrame):
         layout.addWidget(self.outcome)
 
     def set_origin(self, text: str) -> None:
-        self.origin.setText(f"Strategy: {text}")
+        """Where it came from, and who wrote it (the suggestion engine, or no model)."""
+        writer = f"\nWritten by: {self.card.proposer}" if self.card.proposer else ""
+        self.origin.setText(f"Strategy: {text}{writer}")
 
     def _keep(self) -> None:
         self._set_buttons(False)

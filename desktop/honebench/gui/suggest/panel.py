@@ -3,6 +3,7 @@ or set aside each one onto the shelf. The model and the store are used only in j
 from __future__ import annotations
 
 import html
+from dataclasses import replace
 from typing import Callable
 
 from PySide6.QtCore import Qt, Signal
@@ -19,12 +20,13 @@ from ..project import operations
 from ..project.operations import Candidates
 from ..project.session import ProjectSession
 from ..shelf.model import ShelfModel
+from .card_list import CardList
+from .cards import EDITOR, STRATEGY_TIPS, early_rule, small
 from .outcome import OutcomeArea
-from .cards import (EDITOR, STRATEGY_TIPS, SuggestionCard, early_rule, inputs_text,
-                    outcome_text, small)
+from .proposer import Proposers, ProposerChoice
 
 
-class SuggestPanel(QWidget):
+class SuggestPanel(CardList, QWidget):
     """Signals: ``decided(ShelfEntry)`` after a keep or set aside is saved,
     ``load_requested(Wording, parent_id)``, ``status(str)``, ``problem(title, message)``,
     ``running_changed(bool)``, ``finished(SuggestOutcome)``."""
@@ -44,9 +46,10 @@ class SuggestPanel(QWidget):
         self.editor_wording, self.selected_id = editor_wording, selected_id
         self.job: Job | None = None
         self.outcome: SuggestOutcome | None = None
-        self.cards: list[SuggestionCard] = []
+        self.cards: list = []  # SuggestionCard widgets
         self._source = EDITOR
         self.blocked_reason = ""  # set while auto-hone uses the engine
+        self.proposers = Proposers(runner, engine, self)  # the open suggestion engine
 
         self.strategy = QComboBox()
         for key in STRATEGIES:
@@ -67,6 +70,8 @@ class SuggestPanel(QWidget):
         self.other.setAccessibleName("Second shelf entry to blend with")
         self.other_label = QLabel("Blend &with")
         self.other_label.setBuddy(self.other)
+        self.proposer = ProposerChoice(engine.remembered)
+        self.proposer.chosen.connect(self._proposer_chosen)
         self.base_label = small(QLabel())
         self.base_label.setAccessibleName("What the suggestions start from")
         self.go = QPushButton("&Suggest")
@@ -98,6 +103,9 @@ class SuggestPanel(QWidget):
         form.addRow(strategy_label, self.strategy)
         form.addRow(self.other_label, self.other)
         form.addRow("", self.from_shelf)
+        proposer_label = QLabel("Proposals &by")
+        proposer_label.setBuddy(self.proposer)
+        form.addRow(proposer_label, self.proposer)
         count_label = QLabel("&How many")
         count_label.setBuddy(self.count)
         buttons = QHBoxLayout()
@@ -134,11 +142,17 @@ class SuggestPanel(QWidget):
         return self.session.state
 
     # -- method calls down ---------------------------------------------------------------
-    def set_project(self, _state) -> None:
-        """A project was (re)opened: forget the cards."""
+    def set_project(self, state) -> None:
+        """A project was (re)opened: forget the cards; show its suggestion engine."""
         self.cancel()
         self.outcome = None
         self.show_outcome(None)
+        self.proposers.release()
+        self.proposer.show_choice(state.settings.suggest_engine if state is not None else None)
+
+    def close_proposer(self) -> None:
+        """The window closes: close the suggestion engine (a job on the model lane)."""
+        self.proposers.release()
 
     def set_shelf_rows(self, _rows=None) -> None:
         """The shelf changed: refresh the blend chooser and the version names on cards."""
@@ -202,22 +216,46 @@ class SuggestPanel(QWidget):
             return None
         project, strategy, count = state.project, self.strategy.currentData(), self.count.value()
         settings, source = self.engine.project_settings(), self._source
+        wanted = state.settings.suggest_engine
+        lease = self.proposers.lease(wanted)
 
         def work(ctx):
             return operations.suggest(project, handle, strategy=strategy, count=count,
                                       base=base, other_id=other_id, settings=settings,
-                                      cancel=ctx.cancel_event, on_event=ctx.report)
+                                      cancel=ctx.cancel_event, on_event=ctx.report,
+                                      proposer=lease.open())
+
+        def settled(then):
+            def after(*args):
+                self.proposers.settle(lease, self.state().settings.suggest_engine
+                                      if self.state() is not None else None)
+                then(*args)
+            return after
 
         self.outcome = None
         self.show_outcome(None)
+        writer = "" if strategy == "phrase-edits" else f", written by {lease.label(handle)}"
         self.message.setText(f"Asking for {count} suggestion(s), {STRATEGY_LABELS[strategy]}, "
-                             f"starting from {source}…")
-        self.job = self.runner.submit(work, done=lambda out: self._finished(out, source),
-                                      failed=self._failed, progress=self._progress,
-                                      cancelled=lambda: self._finished(None, source),
-                                      name="suggestions", uses_model=True)
+                             f"starting from {source}{writer}…")
+        self.job = self.runner.submit(
+            work, done=settled(lambda out: self._finished(out, source)),
+            failed=settled(self._failed), progress=self._progress,
+            cancelled=settled(lambda: self._finished(None, source)), name="suggestions",
+            uses_model=True)
         self._show_running()
         return self.job
+
+    def _proposer_chosen(self, choice) -> None:
+        """Save who writes suggestions in the project's settings (a job); the engine is
+        opened by the next suggestions' job, and the one open till now is closed."""
+        state = self.state()
+        if state is None:
+            return
+        self.proposers.release()
+        self.session.save_settings(replace(state.settings, suggest_engine=choice))
+        who = choice.label() if choice is not None else "the graded engine"
+        self.status.emit(f"Suggestions will be written by {who}; the graded engine scores "
+                         "them")
 
     def cancel(self) -> None:
         if self.job is not None:
@@ -283,77 +321,6 @@ class SuggestPanel(QWidget):
         self.refresh_base()
         if self.blocked_reason:
             self.base_label.setText(self.blocked_reason)
-
-    # -- the outcome ---------------------------------------------------------------------
-    def show_outcome(self, outcome: SuggestOutcome | None, source: str = EDITOR) -> None:
-        """Cards for the survivors; the plain message when there are none."""
-        for card in self.cards:
-            card.setParent(None)
-            card.deleteLater()
-        self.cards = []
-        self.diagnosis_box.setVisible(bool(outcome and outcome.notes.get("diagnosis")))
-        if outcome is None:
-            self.message.setText("")
-            self.message.setVisible(False)
-            self.dropped_toggle.hide()
-            self.dropped.hide()
-            self.rule.setText(self._rule_template())
-            return
-        self.message.setVisible(True)
-        self.diagnosis.setText(outcome.notes.get("diagnosis", ""))
-        self.rule.setText(outcome.rule or self._rule_template())
-        self.message.setText(outcome_text(outcome, source))
-        n = len(outcome.dropped)
-        self.dropped_toggle.setVisible(bool(n))
-        self.dropped_toggle.setText(f"{n} repl{'y' if n == 1 else 'ies'} dropped")
-        self.dropped.setText("\n".join(f"• {why}" for why in outcome.dropped))
-        self._toggle_dropped(self.dropped_toggle.isChecked())
-        labels = self.labels()
-        for number, card in enumerate(outcome.cards, 1):
-            widget = SuggestionCard(number, card, outcome.base.text, outcome.base_score, source)
-            widget.set_origin(inputs_text(card, labels, source))
-            widget.keep_requested.connect(lambda w: self._decide(w, "kept", ""))
-            widget.set_aside_requested.connect(lambda w, why: self._decide(w, "set_aside", why))
-            widget.load_requested.connect(self._load)
-            self.card_layout.addWidget(widget)
-            self.cards.append(widget)
-
-    def _toggle_dropped(self, shown: bool) -> None:
-        self.dropped_toggle.setArrowType(Qt.ArrowType.DownArrow if shown
-                                         else Qt.ArrowType.RightArrow)
-        self.dropped.setVisible(shown and bool(self.outcome and self.outcome.dropped))
-
-    def _decide(self, widget: SuggestionCard, verdict: str, reason: str) -> Job | None:
-        state = self.state()
-        if state is None:
-            widget.decision_failed()
-            return None
-        project, card = state.project, widget.card
-
-        def done(entry):
-            widget.mark_decided(verdict, entry.id, entry.label)
-            self.decided.emit(entry)
-            word = "Kept" if verdict == "kept" else "Set aside"
-            self.status.emit(f"{word} suggestion {widget.number} on the shelf as {entry.label}")
-
-        def failed(message):
-            widget.decision_failed()
-            self.problem.emit("The decision was not saved", message)
-
-        act = operations.keep if verdict == "kept" else operations.set_aside
-        wording = Wording(card.text, card.placement)
-        parent = (card.inputs or {}).get("parent_id")
-        return self.runner.submit(
-            lambda ctx: act(project, wording=wording, parent_id=parent, origin=card.strategy,
-                            note=reason, inputs=card.inputs),
-            done=done, failed=failed, name="save the decision")
-
-    def _load(self, widget: SuggestionCard) -> None:
-        card = widget.card
-        parent = widget.entry_id if widget.decision == "kept" else \
-            (card.inputs or {}).get("parent_id")
-        self.load_requested.emit(Wording(card.text, card.placement), parent)
-        self.status.emit(f"Loaded suggestion {widget.number} into the editor (Ctrl+Z undoes)")
 
     # -- internals -----------------------------------------------------------------------
     def _entry(self, wording_id: int | None):

@@ -1,15 +1,16 @@
-"""Choosing the engine: the bundled model or a GGUF file; and the open project's
-generation settings (temperature, max tokens, how label answers are found), which are the
-project's own ``ProjectSettings``, shared with the CLI so both fronts share cached answers.
+"""The engine bar: the graded engine (the bundled model, a GGUF file or an OpenAI-protocol
+endpoint) and the open project's generation settings (temperature, max tokens, how label
+answers are found), which are the project's own ``ProjectSettings``, shared with the CLI so
+both fronts share cached answers.
 
-Loading a model is a job on the model lane: switching first cancels the model work running
-or waiting and starts once it has stopped. A file that cannot be loaded gets a dialog
-naming the problem; the engine in use stays. Jobs use the engine through an
-``EngineHandle``, so an engine is closed only once no job is using it.
+Loading an engine is a job on the model lane (an endpoint is asked once there, never on the
+GUI thread): switching first cancels the model work running or waiting and starts once it
+has stopped. An engine that cannot be loaded gets a dialog naming the problem (the file or
+the server); the engine in use stays. Jobs use the engine through an ``EngineHandle``, so
+an engine is closed only once no job is using it.
 """
 from __future__ import annotations
 
-import threading
 from pathlib import Path
 from typing import Callable
 
@@ -17,11 +18,15 @@ from PySide6.QtCore import QSettings, Qt, QTimer, Signal
 from PySide6.QtWidgets import (QComboBox, QDoubleSpinBox, QFileDialog, QHBoxLayout, QLabel,
                                QPushButton, QSizePolicy, QSpinBox, QWidget)
 
-from ..core.engines.base import EngineError
-from ..core.project import ProjectSettings
-from .jobs import JobRunner
+from ...core.engines.choice import EngineChoice
+from ...core.project import ProjectSettings
+from ..jobs import JobRunner
+from .endpoint_dialog import EndpointDialog
+from .handle import EngineHandle, open_engine
+from .remembered import RememberedEngines
 
-BUNDLED = ""  # the combo's data for the bundled model
+BUNDLED = ""  # the combo's data for the bundled model (each item's data: EngineChoice.key())
+CHOICE_ROLE = Qt.ItemDataRole.UserRole + 1  # the item's EngineChoice
 SETTINGS_SAVE_MS = 600  # a setting is saved this long after the last change
 ANSWER_MODES = (("score", "Answers: score the labels",
                  "The model ranks each allowed label; the most likely one is its answer"),
@@ -29,44 +34,24 @@ ANSWER_MODES = (("score", "Answers: score the labels",
                  "The model writes its answer; the label is found in the text"))
 
 
-def open_local_engine(path: str | None):
-    from ..core.engines.local import LocalEngine
+def as_choice(source: EngineChoice | str | None) -> EngineChoice:
+    """A choice from a choice, or from a GGUF path ("" or None: the bundled model)."""
+    if isinstance(source, EngineChoice):
+        return source
+    return EngineChoice.file(source) if source else EngineChoice.bundled()
 
-    return LocalEngine(path or None)
 
+def item_text(choice: EngineChoice) -> str:
+    """How a choice reads in a combo box."""
+    if choice.kind == "endpoint":
+        from urllib.parse import urlsplit
 
-class EngineHandle:
-    """An engine shared by jobs: ``with handle as engine:`` marks it in use; ``retire()``
-    (on a worker thread) waits until no job uses it, then closes it."""
-
-    def __init__(self, engine, source: str):
-        self.engine, self.source = engine, source
-        self._users = 0
-        self._retired = False
-        self._cond = threading.Condition()
-
-    def describe(self) -> str:
-        describe = getattr(self.engine, "describe", None)
-        return describe() if describe else str(getattr(self.engine, "kind", "engine"))
-
-    def __enter__(self):
-        with self._cond:
-            if self._retired:
-                raise EngineError("The engine was switched or closed while this was waiting; "
-                                  "try again.")
-            self._users += 1
-        return self.engine
-
-    def __exit__(self, *exc):
-        with self._cond:
-            self._users -= 1
-            self._cond.notify_all()
-
-    def retire(self, timeout: float | None = 60) -> None:
-        with self._cond:
-            self._retired = True
-            self._cond.wait_for(lambda: self._users == 0, timeout)
-        self.engine.close()
+        host = urlsplit(choice.url).netloc or choice.url
+        model = choice.model if len(choice.model) <= 20 else choice.model[:19] + "…"
+        return f"{model or 'Endpoint'} @ {host}"
+    if choice.kind == "file":
+        return Path(choice.path).name
+    return "Bundled: SmolLM2-135M"
 
 
 class EngineBar(QWidget):
@@ -80,30 +65,40 @@ class EngineBar(QWidget):
     switching = Signal(str)  # names the model work cancelled to switch engines
 
     def __init__(self, runner: JobRunner, settings: QSettings,
-                 factory: Callable[[str | None], object] = open_local_engine, parent=None):
+                 factory: Callable[[EngineChoice], object] = open_engine, parent=None):
+        """``factory(choice)`` opens an engine on a worker thread (tests give a fake)."""
         super().__init__(parent)
         self.runner, self.settings, self.factory = runner, settings, factory
+        self.remembered = RememberedEngines(settings)
         self.handle: EngineHandle | None = None
         self._loading = None
-        self._shown_source: str | None = None
+        self._shown: EngineChoice | None = None
 
         self.choice = QComboBox()
         self.choice.setAccessibleName("Engine")
-        self.choice.setToolTip("The model that answers: the bundled model or a GGUF file")
-        self.choice.addItem("Bundled: SmolLM2-135M", BUNDLED)
+        self.choice.setToolTip("The model that answers: the bundled model, a GGUF file or an "
+                               "OpenAI-protocol endpoint")
+        self._add_item(EngineChoice.bundled())
         self.choice.setItemData(0, "SmolLM2-135M-Instruct, installed with honebench",
                                 Qt.ItemDataRole.ToolTipRole)
         self.choice.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
         self.choice.setMinimumContentsLength(18)
         self.choice.setSizePolicy(QSizePolicy.Policy.Maximum, QSizePolicy.Policy.Fixed)
-        for path in self._remembered_files():
-            self._add_file_item(path)
+        for path in self.remembered.files():
+            self._add_item(EngineChoice.file(path))
+        for endpoint in self.remembered.endpoints():
+            self._add_item(endpoint)
         self.choice.setMinimumWidth(self.choice.sizeHint().width() + 8)
         self.choice.activated.connect(self._on_choice)
         self.browse = QPushButton("GGUF file…")
         self.browse.setAccessibleName("Choose a GGUF model file")
         self.browse.setToolTip("Use a GGUF model file of your own")
         self.browse.clicked.connect(self.choose_file)
+        self.endpoint = QPushButton("Endpoint…")
+        self.endpoint.setAccessibleName("Use an OpenAI-protocol endpoint")
+        self.endpoint.setToolTip("Use a server that speaks the OpenAI chat protocol "
+                                 "(address, model name, timeout)")
+        self.endpoint.clicked.connect(self.choose_endpoint)
 
         self._settings = ProjectSettings()
         self.temperature = QDoubleSpinBox()
@@ -142,6 +137,7 @@ class EngineBar(QWidget):
         layout.addWidget(label)
         layout.addWidget(self.choice)
         layout.addWidget(self.browse)
+        layout.addWidget(self.endpoint)
         layout.addSpacing(10)
         t_label = QLabel("&Temperature")
         t_label.setBuddy(self.temperature)
@@ -182,6 +178,11 @@ class EngineBar(QWidget):
                                        temperature=round(self.temperature.value(), 2),
                                        answer_mode=mode)
 
+    def adopt_settings(self, settings: ProjectSettings) -> None:
+        """Another view saved the project's settings (e.g. the suggestion engine): keep
+        them, so the bar's next save does not undo that (its own widgets stay as shown)."""
+        self._settings = settings  # project_settings() lays the widgets' values over it
+
     def commit_settings(self) -> None:
         """Send the edited settings on (at once; edits of a spin box are gathered first)."""
         self._save_timer.stop()
@@ -192,13 +193,12 @@ class EngineBar(QWidget):
 
     def load_remembered(self) -> None:
         """Load the engine chosen last time (the bundled model at first)."""
-        source = str(self.settings.value("engine/source", BUNDLED) or "")
-        if source and not Path(source).exists():
-            source = BUNDLED
-        self.load(source)
+        self.load(self.remembered.last())
 
-    def load(self, source: str) -> None:
-        """Load ``source`` (a GGUF path, or "" for the bundled model) in a job."""
+    def load(self, choice: EngineChoice | str | None) -> None:
+        """Load ``choice`` (an EngineChoice, or a GGUF path, "" for the bundled model) in a
+        job on the model lane; an endpoint is asked there whether it answers."""
+        choice = as_choice(choice)
         if self._loading is not None:
             self._loading.cancel()
         busy = [job.name for job in [self.runner.model_job(), *self.runner.waiting()]
@@ -206,30 +206,39 @@ class EngineBar(QWidget):
         if busy and self.handle is not None:
             self.runner.cancel_model_jobs()
             self.switching.emit(", ".join(busy))
-        self._select(source)
-        self.status.setText("loading the model…")
-        self.status.setToolTip(source or "the bundled model")
-        self.choice.setEnabled(False)
-        self.browse.setEnabled(False)
+        self._select(choice)
+        self.status.setText("asking the endpoint…" if choice.kind == "endpoint"
+                            else "loading the model…")
+        self.status.setToolTip(choice.label())
+        self.set_busy(True)
         factory = self.factory
         self._loading = self.runner.submit(
-            lambda ctx: EngineHandle(factory(source or None), source),
-            done=self._on_loaded, failed=lambda msg: self._on_failed(source, msg),
+            lambda ctx: EngineHandle(factory(choice), choice),
+            done=self._on_loaded, failed=lambda msg: self._on_failed(choice, msg),
             name="load the model", uses_model=True)
 
     def choose_file(self) -> None:
-        start = str(self.settings.value("engine/last_dir", str(Path.home())))
-        path, _ = QFileDialog.getOpenFileName(self, "Choose a GGUF model file", start,
+        path, _ = QFileDialog.getOpenFileName(self, "Choose a GGUF model file",
+                                              self.remembered.last_dir(),
                                               "GGUF model files (*.gguf);;All files (*)")
         if path:
-            self.settings.setValue("engine/last_dir", str(Path(path).parent))
-            self.load(path)
+            self.remembered.set_last_dir(path)
+            self.load(EngineChoice.file(path))
+
+    def choose_endpoint(self) -> None:
+        """Ask for an endpoint (address, model name, timeout) and load it."""
+        shown = self.handle.choice if self.handle is not None else None
+        initial = shown if shown is not None and shown.kind == "endpoint" else \
+            next(iter(self.remembered.endpoints()), None)
+        choice = EndpointDialog.ask(self, "Answer with an endpoint", initial)
+        if choice is not None:
+            self.load(choice)
 
     def set_busy(self, busy: bool) -> None:
         """No second switch while a model is loading."""
         idle = not busy and self._loading is None
-        self.choice.setEnabled(idle)
-        self.browse.setEnabled(idle)
+        for widget in (self.choice, self.browse, self.endpoint):
+            widget.setEnabled(idle)
 
     def close_engine(self) -> None:
         """Close the engine in a job on the model lane, once nothing uses it."""
@@ -245,48 +254,47 @@ class EngineBar(QWidget):
         if old is not None:
             self.runner.submit(lambda ctx: old.retire(), name="close the old model",
                                uses_model=True)
-        self._shown_source = handle.source
-        self.settings.setValue("engine/source", handle.source)
-        if handle.source:
-            self._remember_file(handle.source)
+        self._shown = handle.choice
+        self.remembered.remember(handle.choice)
+        self._select(handle.choice)
         self.status.setText("✓ ready")
-        self.status.setToolTip(f"{handle.describe()}\n{handle.source or 'the bundled model'}")
+        self.status.setToolTip(f"{handle.describe()}\n{handle.choice.label()}")
         self.set_busy(False)
         self.engine_ready.emit(handle)
 
-    def _on_failed(self, source: str, message: str) -> None:
+    def _on_failed(self, choice: EngineChoice, message: str) -> None:
         self._loading = None
         self.set_busy(False)
-        self._select(self._shown_source if self.handle is not None else source)
+        self._select(self._shown if self.handle is not None else choice)
+        what = "endpoint" if choice.kind == "endpoint" else "model file"
         kept = (f"The engine in use stays: {self.handle.describe()}." if self.handle
-                else "No engine is loaded; choose another model file.")
+                else f"No engine is loaded; choose another {what}.")
         self.status.setText("✓ ready" if self.handle else "✗ no engine: the model did not load")
         self.engine_failed.emit(f"{message}\n\n{kept}")
 
     def _on_choice(self, index: int) -> None:
-        source = self.choice.itemData(index) or ""
-        if source != (self.handle.source if self.handle else None):
-            self.load(source)
+        choice = self.choice.itemData(index, CHOICE_ROLE)
+        if choice is not None and (self.handle is None or choice != self.handle.choice):
+            self.load(choice)
 
-    def _select(self, source: str | None) -> None:
-        if source is None:
+    def _select(self, choice: EngineChoice | None) -> None:
+        if choice is None:
             return
-        index = self.choice.findData(source)
+        index = self.choice.findData(choice.key())
         if index < 0:
-            index = self._add_file_item(source)
+            index = self._add_item(choice)
+            self.choice.setMinimumWidth(0)
+            self.choice.setMinimumWidth(self.choice.sizeHint().width() + 8)
+        self.choice.setItemData(index, choice, CHOICE_ROLE)  # the latest timeout
         self.choice.setCurrentIndex(index)
 
-    def _add_file_item(self, path: str) -> int:
-        self.choice.addItem(Path(path).name, path)
+    def _add_item(self, choice: EngineChoice) -> int:
+        self.choice.addItem(item_text(choice), choice.key())
         index = self.choice.count() - 1
-        self.choice.setItemData(index, path, role=Qt.ItemDataRole.ToolTipRole)
+        self.choice.setItemData(index, choice, CHOICE_ROLE)
+        tip = choice.path if choice.kind == "file" else (
+            f"{choice.label()}, timeout {choice.timeout:g} s" if choice.kind == "endpoint"
+            else None)
+        if tip:
+            self.choice.setItemData(index, tip, Qt.ItemDataRole.ToolTipRole)
         return index
-
-    def _remembered_files(self) -> list[str]:
-        value = self.settings.value("engine/files", []) or []
-        files = [value] if isinstance(value, str) else list(value)
-        return [f for f in files if f]
-
-    def _remember_file(self, path: str) -> None:
-        files = [f for f in self._remembered_files() if f != path]
-        self.settings.setValue("engine/files", [path] + files[:7])
