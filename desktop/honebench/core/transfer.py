@@ -122,10 +122,11 @@ class TransferResult:
         """Plain words, one line per version, then the caution."""
         out = [f"Transfer check on the same {self.n} items: here = {self.here_engine}, "
                f"there = {self.there_engine}."]
+        of = f" of {len(self.versions)}" if len(self.versions) > 1 else ""
         for v in self.versions:
             flags = f"  [{'; '.join(v.flags)}]" if v.flags else ""
-            out.append(f"{v.label}: here {v.here.text()}, rank {v.rank_here}; there "
-                       f"{v.there.text()}, rank {v.rank_there}. {engine_test_text(v.paired)}."
+            out.append(f"{v.label}: here {v.here.text()}, rank {v.rank_here}{of}; there "
+                       f"{v.there.text()}, rank {v.rank_there}{of}. {engine_test_text(v.paired)}."
                        + flags)
             if v.errors_there or v.errors_here:
                 out.append(f"  {v.errors_here} error marks here, {v.errors_there} there "
