@@ -20,6 +20,7 @@ from .compare import Comparison, compare_entries, latest_run, run_name
 from .honesty import ShelfAssessment, assess_shelf
 from .project import Project, ShelfRow
 from .records import ShelfEntry
+from .report_transfer import transfer_section
 from .sets import QuestionSet
 from .stats import Score
 from .wording import PLACEMENT_LABELS
@@ -287,6 +288,7 @@ def report_html(project: Project, *, chosen_id: int | None = None) -> str:
         _section("chosen", "Chosen wording", _chosen(choice, rows)),
         _section("comparison", "Chosen against the first version", comparison),
         _section("chart", "Progress chart", chart),
+        transfer_section(project),  # "" when no transfer check was run
         _section("cautions", "Cautions", _cautions(qset, found.variants_tried)),
     ]
     return ("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
