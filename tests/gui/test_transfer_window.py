@@ -89,3 +89,56 @@ def test_check_on_another_model_file_fills_the_table(qtbot, runner, settings, tm
     assert non_blank(out)
     app.shelf_panel.grab().save("/tmp/transfer_shelf.png")
     app.window.close()
+
+
+class _OtherChoice:
+    """Stands in for an EngineChoice: opens a fake engine with its own fingerprint that
+    stops the job after its third answer, and records that it was closed."""
+
+    def __init__(self, app):
+        self.app, self.opened, self.threads = app, None, []
+
+    def label(self) -> str:
+        return "a fake other engine"
+
+    def open(self):
+        import threading
+
+        self.threads.append(threading.current_thread())
+
+        class Other(FakeEngine):
+            closed = False
+
+            def fingerprint(self):
+                return "fake:other"
+
+            def close(self):
+                Other.closed = True
+
+        stop = lambda n: self.app.transfer.job.cancel_event.set() if n == 3 else None  # noqa
+        self.opened = Other(on_call=stop)
+        return self.opened
+
+
+def test_stop_ends_the_check_saves_no_result_and_closes_the_other_engine(
+        qtbot, runner, settings, tmp_path, sample_dir):
+    import threading
+
+    path = _two_versions(tmp_path, sample_dir)
+    app, _ = open_window(qtbot, runner, settings, path, FakeEngine())
+    dialog = app.transfer.open_dialog()
+    choice = _OtherChoice(app)
+    ids = dialog.chosen_ids()
+    job = app.transfer.run(choice, ids)
+    assert job is not None and job.uses_model
+    qtbot.waitUntil(lambda: app.transfer.job is None, timeout=60_000)
+    assert "Stopped the check" in dialog.stage.text()
+    assert dialog.run_button.isEnabled() and not dialog.stop_button.isEnabled()
+    assert choice.opened.closed  # closed after the job
+    assert threading.main_thread() not in choice.threads  # opened in the job, not the GUI
+    check = Project(path)
+    assert check.latest_transfer() is None
+    side = check.store.runs(purpose="transfer")
+    assert side and sum(len(check.store.marks(r.id)) for r in side) == 3
+    check.close()
+    app.window.close()
