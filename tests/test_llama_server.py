@@ -152,6 +152,45 @@ def test_label_scoring_through_the_server(server, project):
             assert "gave no logprobs" in m.why, m.why
 
 
+def test_transfer_check_on_the_bundled_model_through_the_server(server, project,
+                                                              local_engine, capsys):
+    """The transfer check: the same wording graded by the bundled model here and through
+    the server there, on the same items; the flags come from the two engines' counts."""
+    from honebench.core.settings import ProjectSettings
+    from honebench.core.transfer import ranks
+
+    entries = [project.keep(w).value for w in (WORDING, Wording(
+        "Route the passenger's message to one department.", "system"))]
+    engine = EndpointEngine(server.url, concurrency=2, timeout=120)
+    try:
+        result = project.transfer(
+            local_engine, engine, [e.id for e in entries], other_label="bundled via server",
+            limit=6, settings=ProjectSettings(answer_mode="generate", max_tokens=8)).value
+    finally:
+        engine.close()
+    assert result.there_fingerprint.startswith("endpoint:") and result.n == 6
+    for v in result.versions:
+        there = project.store.marks(v.there_run)
+        assert len(there) == 6 and all(m.error is None and not m.cached for m in there)
+        assert v.there.passed == sum(m.passed for m in there)
+    passes = [[v.here.passed for v in result.versions], [v.there.passed for v in result.versions]]
+    assert [v.rank_here for v in result.versions] == ranks(passes[0])
+    assert [v.rank_there for v in result.versions] == ranks(passes[1])
+    assert project.latest_transfer() == result
+    # the same check from the command line: the graded runs and the server's answers are
+    # reused (same engines, same settings), so it reports the same numbers
+    from honebench import cli
+
+    assert cli.main(["transfer", str(project.path), "v1", "v2", "--endpoint", server.url,
+                     "--limit", "6", "--answer-mode", "generate", "--max-tokens", "8",
+                     "--json"]) == 0
+    printed = json.loads(capsys.readouterr().out)
+    assert [(v["here"]["passed"], v["there"]["passed"], v["p_value"], v["flags"])
+            for v in printed] == [(v.here.passed, v.there.passed, v.paired.p_value,
+                                   list(v.flags)) for v in result.versions]
+    assert printed[0]["there"]["engine"] == f"endpoint at {server.url}"
+
+
 def test_concurrent_requests_all_get_their_own_answer(server, tmp_path, sample_dir):
     items = None
     outputs = []

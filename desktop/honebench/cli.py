@@ -109,6 +109,9 @@ def build_parser() -> argparse.ArgumentParser:
     cmp_.add_argument("--split", choices=("tuning", "held_out"), default="tuning")
     _engine_args(cmp_)  # used only for a version not yet graded on that split
 
+    from .commands_transfer import add_parser as add_transfer_parser
+    add_transfer_parser(verbs)
+
     e = verbs.add_parser("export", help="write the report, all marks, or the chosen wording")
     e.add_argument("project")
     e.add_argument("--html", type=Path, help="one self-contained HTML report")
@@ -170,6 +173,9 @@ def main(argv: list[str] | None = None) -> int:
         if args.verb == "bench":
             from .core.bench import run_bench
             return run_bench(set_path=args.set_path, items=args.items, model=args.model)
+        if args.verb == "transfer":
+            from .commands_transfer import transfer_verb
+            return transfer_verb(args)
         from . import commands
         return getattr(commands, f"{args.verb}_verb")(args)
     except (SetError, EngineError, StoreError, ValueError, LookupError, OSError) as exc:

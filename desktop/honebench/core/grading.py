@@ -103,20 +103,24 @@ class Grader:
               params: Params = Params(), split: str = "tuning",
               items: Sequence[Item] | None = None, wording_id: int | None = None,
               on_mark: Callable[[Mark, Progress], None] | None = None,
-              cancel: threading.Event | None = None) -> RunOutcome:
+              cancel: threading.Event | None = None, purpose: str = "") -> RunOutcome:
         """One grade run of one wording."""
         items = tuple(items if items is not None else select_items(qset, split))
         plan = Plan(wording, items, split, wording_id)
         relay = (lambda _i, mark, prog: on_mark(mark, prog)) if on_mark else None
         return self.grade_many(set_id=set_id, qset=qset, plans=[plan], check=check,
-                               params=params, on_mark=relay, cancel=cancel)[0]
+                               params=params, on_mark=relay, cancel=cancel,
+                               purpose=purpose)[0]
 
     def grade_many(self, *, set_id: int, qset: QuestionSet, plans: Sequence[Plan],
                    check: CheckSpec, params: Params = Params(),
                    on_mark: Callable[[int, Mark, Progress], None] | None = None,
-                   cancel: threading.Event | None = None) -> list[RunOutcome]:
+                   cancel: threading.Event | None = None,
+                   purpose: str = "") -> list[RunOutcome]:
         """Several grade runs fed to the engine as one stream, so it never waits between
         them. ``on_mark`` gets the plan's index, the mark and the progress over all plans.
+        ``purpose``: "" for ordinary grade runs, else the analysis the side runs are for
+        (Store.start_run).
         Raises ValueError, before anything is saved, when the check cannot judge this set's
         expected answers (see check_fit.check_fits_set)."""
         check_fits_set(check, qset)
@@ -133,7 +137,8 @@ class Grader:
             set_id=set_id, wording_text=p.wording.text, placement=p.wording.placement,
             split=p.split, fingerprint=fingerprint,
             params=_with_prior(params.as_dict(), check.labels, prior),
-            check=check.as_dict(), n_items=len(p.items), wording_id=p.wording_id), p)
+            check=check.as_dict(), n_items=len(p.items), wording_id=p.wording_id,
+            purpose=purpose), p)
             for p, prior in zip(plans, priors)]
         scoring = params.answer_mode == "score"
 

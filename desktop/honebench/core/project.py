@@ -21,6 +21,7 @@ from .operations.exports import ExportOps
 from .operations.grading import GradingOps
 from .operations.improve import ImproveOps
 from .operations.shelf import ShelfOps
+from .operations.transfer import TransferOps
 from .project_files import (DEMO_NAME, DEMO_SET, default_project_path, demo_set_path,
                             project_file, projects_dir)
 from .records import RunInfo, ShelfEntry
@@ -83,7 +84,7 @@ def preview_set(set_path: str | Path, *, sheet: str | int | None = None,
     return head, mapping, problems, CheckSpec.from_dict(recipe["check"]) if recipe else None
 
 
-class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
+class Project(GradingOps, ShelfOps, ImproveOps, ExportOps, TransferOps):
     def __init__(self, path: str | Path):
         self.path = project_file(path)
         self.path.parent.mkdir(parents=True, exist_ok=True)

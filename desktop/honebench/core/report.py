@@ -21,6 +21,7 @@ from .honesty import ShelfAssessment, assess_shelf
 from .project import Project, ShelfRow
 from .records import ShelfEntry
 from .report_cost import cost_section
+from .report_transfer import transfer_section
 from .sets import QuestionSet
 from .stats import Score
 from .wording import PLACEMENT_LABELS
@@ -290,6 +291,7 @@ def report_html(project: Project, *, chosen_id: int | None = None) -> str:
         _section("comparison", "Chosen against the first version", comparison),
         _section("chart", "Progress chart", chart),
         cost_section(rows),
+        transfer_section(project),  # "" when no transfer check was run
         _section("cautions", "Cautions", _cautions(qset, found.variants_tried)),
     ]
     return ("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"

@@ -40,6 +40,7 @@ from .shelf.model import ShelfModel
 from .shelf.panel import ShelfPanel
 from .suggest.panel import SuggestPanel
 from .tour import GuidedTour, show_about
+from .transfer import control as transfer_control
 from .window import SIZE, MainWindow
 
 ORG = APP = "honebench"
@@ -73,6 +74,11 @@ class App:
                                       self.engine, editor_wording=self.editor.wording,
                                       show_problem=problem, status=status, dialog_parent=w,
                                       parent=w)
+        self.transfer = transfer_control.TransferControl(runner, self.session, self.shelf_model,
+                                                         self.shelf_panel, self.engine,
+                                                         show_problem=problem, status=status,
+                                                         dialog_parent=w, parent=w)
+        self.compare.bar.add_button(self.transfer.button)
         self.exports = ExportControl(runner, self.session, settings, w, problem, status, w)
         self.suggest = SuggestPanel(runner, self.session, self.shelf_model, self.engine,
                                     editor_wording=self.editor.wording,
@@ -192,6 +198,8 @@ class App:
             "Con&firm on held-out items", self.compare.confirm_selected, "Ctrl+Shift+H",
             "Grade the selected shelf version on the held-out items (the one way to grade "
             "them)"))
+        self.transfer_action = w.add_action("run", act(
+            transfer_control.TEXT, self.transfer.open_dialog, "", transfer_control.TIP))
 
         w.menus["view"].addSeparator()
         for text, target, shortcut in (
@@ -293,6 +301,7 @@ class App:
             action.setEnabled(has_set)
         self.compare_action.setEnabled(self.compare.can_compare())
         self.confirm_action.setEnabled(self.compare.can_confirm())
+        self.transfer_action.setEnabled(self.transfer.can_open())
 
     # -- acts the actions call -----------------------------------------------------------
     def grade(self, limit: int | None = None):

@@ -25,10 +25,12 @@ GRADED = Changes(shelf=True, runs=True, marks=True)
 def grade_wording(project, engine, wording: Wording, *, split: str = "tuning",
                   items: Sequence[Item] | None = None, params=None,
                   wording_id: int | None = None, on_event: Listener | None = None,
-                  cancel: threading.Event | None = None, what: str = "") -> RunOutcome:
+                  cancel: threading.Event | None = None, what: str = "",
+                  purpose: str = "") -> RunOutcome:
     """Grade one wording on one split of the current set (or the given items) with the
     project's check; ``params`` default to the project's settings. Sends Started, then one
-    Marked per item. Cached answers cost no model call."""
+    Marked per item. Cached answers cost no model call. ``purpose`` (e.g. "transfer")
+    makes a side run that stays out of shelf scores."""
     set_id, qset = project.current_set()
     items = tuple(items) if items is not None else select_items(qset, split)
     params = params or project.settings().params()
@@ -37,13 +39,15 @@ def grade_wording(project, engine, wording: Wording, *, split: str = "tuning",
     on_mark = (lambda mark, prog: on_event(Marked(mark, prog))) if on_event else None
     return Grader(project.store, engine).grade(
         set_id=set_id, qset=qset, wording=wording, check=project.check(), params=params,
-        split=split, items=items, wording_id=wording_id, on_mark=on_mark, cancel=cancel)
+        split=split, items=items, wording_id=wording_id, on_mark=on_mark, cancel=cancel,
+        purpose=purpose)
 
 
 def grade_plans(project, engine, plans: Sequence[Plan], *, params=None,
                 on_event: Listener | None = None, cancel: threading.Event | None = None,
-                what: str = "") -> list[RunOutcome]:
-    """Several wordings graded as one stream; Marked events carry the plan's index."""
+                what: str = "", purpose: str = "") -> list[RunOutcome]:
+    """Several wordings graded as one stream; Marked events carry the plan's index.
+    ``purpose`` as for ``grade_wording``."""
     set_id, qset = project.current_set()
     params = params or project.settings().params()
     if on_event:
@@ -52,7 +56,7 @@ def grade_plans(project, engine, plans: Sequence[Plan], *, params=None,
                if on_event else None)
     return Grader(project.store, engine).grade_many(
         set_id=set_id, qset=qset, plans=plans, check=project.check(), params=params,
-        on_mark=on_mark, cancel=cancel)
+        on_mark=on_mark, cancel=cancel, purpose=purpose)
 
 
 class GradingOps:

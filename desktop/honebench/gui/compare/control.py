@@ -60,7 +60,7 @@ class HonestyBar(QWidget):
         small.setPointSizeF(small.pointSizeF() * 0.9)
         for label in (self.note, self.best):
             label.setFont(small)
-        row = QHBoxLayout()
+        row = self.row = QHBoxLayout()
         row.addWidget(self.compare_button)
         row.addWidget(self.confirm_button)
         row.addStretch(1)
@@ -69,6 +69,10 @@ class HonestyBar(QWidget):
         layout.addWidget(self.note)
         layout.addWidget(self.best)
         layout.addLayout(row)
+
+    def add_button(self, button: QPushButton) -> None:
+        """Another check beside Compare and Confirm (e.g. the transfer check)."""
+        self.row.insertWidget(self.row.count() - 1, button)
 
     def show_assessment(self, found, has_rows: bool) -> None:
         self.note.setVisible(bool(found and found.optimism_note))

@@ -206,6 +206,27 @@ def hone(project, engine, *, wording: Wording, strategy: str, budget,
                             cancel=cancel, proposer=writer)
 
 
+# -- the transfer check ------------------------------------------------------------------
+def transfer(project, engine, *, choice, wording_ids: list[int],
+             settings: ProjectSettings | None = None, cancel=None,
+             on_event: Listener = _quiet) -> Done:
+    """Grade shelf versions on a second engine (``choice``, a core EngineChoice: opened
+    here, on the worker thread, and closed after) and compare with the loaded engine.
+    Returns Done[TransferResult]; the result is saved in the project."""
+    other = choice.open()
+    try:
+        with engine as model:
+            return project.transfer(model, other, wording_ids, other_label=choice.label(),
+                                    settings=settings, on_event=on_event, cancel=cancel)
+    finally:
+        other.close()
+
+
+def latest_transfer(project, engine=None) -> Done:
+    """The newest saved transfer check, or None (read only)."""
+    return Done(project.latest_transfer(), NOTHING)
+
+
 # -- the shelf ---------------------------------------------------------------------------
 def keep(project, engine=None, *, wording: Wording, parent_id: int | None = None,
          origin: str = "typed", note: str = "", inputs: dict | None = None) -> Done:
