@@ -18,6 +18,7 @@ from .checks import CheckSpec
 from .compare import latest_run
 from .operations.exports import ExportOps
 from .operations.grading import GradingOps
+from .operations.importance import ImportanceOps
 from .operations.improve import ImproveOps
 from .operations.shelf import ShelfOps
 from .project_files import (DEMO_NAME, DEMO_SET, default_project_path, demo_set_path,
@@ -82,7 +83,7 @@ def preview_set(set_path: str | Path, *, sheet: str | int | None = None,
     return head, mapping, problems, CheckSpec.from_dict(recipe["check"]) if recipe else None
 
 
-class Project(GradingOps, ShelfOps, ImproveOps, ExportOps):
+class Project(GradingOps, ShelfOps, ImproveOps, ExportOps, ImportanceOps):
     def __init__(self, path: str | Path):
         self.path = project_file(path)
         self.path.parent.mkdir(parents=True, exist_ok=True)

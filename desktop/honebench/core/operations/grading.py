@@ -25,10 +25,12 @@ GRADED = Changes(shelf=True, runs=True, marks=True)
 def grade_wording(project, engine, wording: Wording, *, split: str = "tuning",
                   items: Sequence[Item] | None = None, params=None,
                   wording_id: int | None = None, on_event: Listener | None = None,
-                  cancel: threading.Event | None = None, what: str = "") -> RunOutcome:
+                  cancel: threading.Event | None = None, what: str = "",
+                  purpose: str = "") -> RunOutcome:
     """Grade one wording on one split of the current set (or the given items) with the
     project's check; ``params`` default to the project's settings. Sends Started, then one
-    Marked per item. Cached answers cost no model call."""
+    Marked per item. Cached answers cost no model call. ``purpose`` names an analysis'
+    side run ("importance"), left out of shelf scores."""
     set_id, qset = project.current_set()
     items = tuple(items) if items is not None else select_items(qset, split)
     params = params or project.settings().params()
@@ -37,7 +39,8 @@ def grade_wording(project, engine, wording: Wording, *, split: str = "tuning",
     on_mark = (lambda mark, prog: on_event(Marked(mark, prog))) if on_event else None
     return Grader(project.store, engine).grade(
         set_id=set_id, qset=qset, wording=wording, check=project.check(), params=params,
-        split=split, items=items, wording_id=wording_id, on_mark=on_mark, cancel=cancel)
+        split=split, items=items, wording_id=wording_id, on_mark=on_mark, cancel=cancel,
+        purpose=purpose)
 
 
 def grade_plans(project, engine, plans: Sequence[Plan], *, params=None,
