@@ -107,6 +107,10 @@ def build_parser() -> argparse.ArgumentParser:
     cmp_.add_argument("--split", choices=("tuning", "held_out"), default="tuning")
     _engine_args(cmp_)  # used only for a version not yet graded on that split
 
+    from .commands_importance import add_parser as add_importance
+
+    add_importance(verbs, _engine_args)
+
     e = verbs.add_parser("export", help="write the report, all marks, or the chosen wording")
     e.add_argument("project")
     e.add_argument("--html", type=Path, help="one self-contained HTML report")
@@ -154,6 +158,9 @@ def main(argv: list[str] | None = None) -> int:
         if args.verb == "bench":
             from .core.bench import run_bench
             return run_bench(set_path=args.set_path, items=args.items, model=args.model)
+        if args.verb == "importance":
+            from .commands_importance import importance_verb
+            return importance_verb(args)
         from . import commands
         return getattr(commands, f"{args.verb}_verb")(args)
     except (SetError, EngineError, StoreError, ValueError, LookupError, OSError) as exc:
