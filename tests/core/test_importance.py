@@ -163,3 +163,22 @@ def test_a_one_phrase_wording_is_refused(routing):
     entry = project.keep(Wording("Department: ", "answer")).value
     with pytest.raises(ValueError, match="at least two phrases"):
         project.importance(fake(known), entry.id)
+
+
+def test_the_report_shows_each_analysed_version_with_n_intervals_and_cautions(routing):
+    from honebench.core.report import report_html
+
+    project, known = routing
+    entry = project.keep(Wording(TEXT, "before")).value
+    assert 'id="importance"' not in report_html(project)  # nothing analysed: no section
+    result = project.importance(fake(known), entry.id, early_stop=False).value
+    html = report_html(project)
+    section = html.split('<section id="importance">', 1)[1].split("</section>", 1)[0]
+    assert f"(n = {result.n_items})" in section and "95% interval" in section
+    assert "can depend on the other phrases" in section and "noisy" in section
+    route, _money, word = result.effects
+    assert section.count("<span style=\"background:rgba(") >= 1 + 2  # legend has two
+    assert 'style="text-decoration:underline dotted"' in section  # the no-effect phrase
+    from honebench.core.importance import points
+    assert f"<td>{points(route.low)} to {points(route.high)}</td>" in section
+    assert word.verdict() in section

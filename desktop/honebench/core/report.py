@@ -19,6 +19,7 @@ from .chart_svg import progress_chart_svg
 from .compare import Comparison, compare_entries, latest_run, run_name
 from .honesty import ShelfAssessment, assess_shelf
 from .project import Project, ShelfRow
+from .report_importance import importance_section
 from .records import ShelfEntry
 from .sets import QuestionSet
 from .stats import Score
@@ -287,6 +288,7 @@ def report_html(project: Project, *, chosen_id: int | None = None) -> str:
         _section("chosen", "Chosen wording", _chosen(choice, rows)),
         _section("comparison", "Chosen against the first version", comparison),
         _section("chart", "Progress chart", chart),
+        importance_section(project),
         _section("cautions", "Cautions", _cautions(qset, found.variants_tried)),
     ]
     return ("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
