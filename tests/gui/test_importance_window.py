@@ -2,6 +2,8 @@
 progress, then the editor shades the version's phrases with a legend and tooltips."""
 from __future__ import annotations
 
+import time
+
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QPalette
 
@@ -29,7 +31,8 @@ def test_the_phrase_check_shades_the_editor(qtbot, runner, settings, tmp_path, s
             return "no idea"
         return next((exp for msg, exp in key.items() if msg in asked), "no idea")
 
-    app, engine, _ = composed_on(qtbot, runner, settings, path, FakeEngine(answer))
+    slow = FakeEngine(answer, on_call=lambda _n: time.sleep(0.03))  # time to see progress
+    app, engine, _ = composed_on(qtbot, runner, settings, path, slow)
     grade_and_keep(qtbot, app, TEXT)
     app.editor.set_wording(Wording("something else entirely", "before"))
     assert app.importance.action.isEnabled()
@@ -38,6 +41,9 @@ def test_the_phrase_check_shades_the_editor(qtbot, runner, settings, tmp_path, s
         job = app.importance.start()
         job.progress.connect(progress.append)
         assert app.importance.bar.button.text() == "Stop the phrase check"
+        qtbot.waitUntil(lambda: "graded" in app.importance.bar.progress.text(), timeout=WAIT)
+        qtbot.wait(20)  # let the layout take the new line before the picture
+        app.shelf_panel.grab().save("/tmp/importance_running.png")
     result = shown.args[0]
     # the version came back into the editor, shaded; its first phrase matters
     assert app.editor.wording().text == TEXT

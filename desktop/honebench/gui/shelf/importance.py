@@ -9,7 +9,8 @@ from __future__ import annotations
 from typing import Callable
 
 from PySide6.QtCore import QObject, Signal
-from PySide6.QtWidgets import QHBoxLayout, QLabel, QPushButton, QWidget
+from PySide6.QtWidgets import (QHBoxLayout, QLabel, QPushButton, QSizePolicy, QVBoxLayout,
+                               QWidget)
 
 from ...core.events import Marked, Stage, Started, progress_text
 from ...core.importance import split_phrases
@@ -35,10 +36,19 @@ class ImportanceBar(QWidget):
         self.progress = QLabel()
         self.progress.setWordWrap(True)
         self.progress.setAccessibleName("Progress of the phrase check")
-        row = QHBoxLayout(self)
-        row.setContentsMargins(0, 0, 0, 4)
+        self.progress.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Minimum)
+        self.progress.hide()
+        row = QHBoxLayout()
         row.addWidget(self.button)
-        row.addWidget(self.progress, 1)
+        row.addStretch(1)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 4)
+        layout.addLayout(row)
+        layout.addWidget(self.progress)
+
+    def say(self, text: str) -> None:
+        self.progress.setText(text)
+        self.progress.setVisible(bool(text))
 
 
 class ImportanceControl(QObject):
@@ -80,7 +90,7 @@ class ImportanceControl(QObject):
     def start_or_stop(self) -> Job | None:
         if self.job is not None:
             self.job.cancel()
-            self.bar.progress.setText("Stopping after the items being graded…")
+            self.bar.say("Stopping after the items being graded…")
             return None
         return self.start()
 
@@ -97,7 +107,7 @@ class ImportanceControl(QObject):
             return None
         project, handle = self.session.project, self.engine.handle
         settings = self.engine.project_settings()
-        self.bar.progress.setText(f"Checking the phrases of {entry.label}…")
+        self.bar.say(f"Checking the phrases of {entry.label}…")
         self.job = self.runner.submit(
             lambda ctx: operations.importance(project, handle, wording_id=wid,
                                               settings=settings, cancel=ctx.cancel_event,
@@ -110,11 +120,11 @@ class ImportanceControl(QObject):
 
     def _progress(self, event) -> None:
         if isinstance(event, Marked):
-            self.bar.progress.setText(progress_text(event.progress))
+            self.bar.say(progress_text(event.progress))
         elif isinstance(event, Stage):
-            self.bar.progress.setText(event.text)
+            self.bar.say(event.text)
         elif isinstance(event, Started) and event.what:
-            self.bar.progress.setText(event.what)
+            self.bar.say(event.what)
 
     def _end(self) -> None:
         self.job = None
@@ -122,12 +132,12 @@ class ImportanceControl(QObject):
 
     def _failed(self, message: str) -> None:
         self._end()
-        self.bar.progress.clear()
+        self.bar.say("")
         self.show_problem("The phrase check did not finish", message)
 
     def _cancelled(self) -> None:
         self._end()
-        self.bar.progress.setText("Stopped; the answers graded so far are in the cache.")
+        self.bar.say("Stopped; the answers graded so far are in the cache.")
 
     def _done(self, result) -> None:
         self._end()
@@ -140,6 +150,6 @@ class ImportanceControl(QObject):
         measurable = sum(e.measurable for e in result.effects)
         text = (f"{result.label}: {measurable} of {len(result.effects)} phrases change the "
                 f"score measurably ({result.n_items} tuning items); the editor shades them")
-        self.bar.progress.setText(text)
+        self.bar.say(text + ".")
         self.status(f"Phrase importance of {text} (Ctrl+Z in the editor undoes the restore)")
         self.shown.emit(result)
