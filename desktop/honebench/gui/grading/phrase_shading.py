@@ -161,13 +161,25 @@ class PhraseShading(QObject):
         quiet = sum(not e.measurable for e in r.effects)
         early = sum(e.stopped_early for e in r.effects)
         rate = r.base_passed / r.n_items if r.n_items else 0.0
+        helps = [e.delta for e in r.effects if e.measurable and e.delta < 0]
+        hurts = [e.delta for e in r.effects if e.measurable and e.delta > 0]
+        keys = []
+        if helps:
+            keys.append(f"{swatch(min(helps))} helps: leaving it out lowers the score (by up "
+                        f"to {points(-min(helps)).lstrip('+')})")
+        if hurts:
+            keys.append(f"{swatch(max(hurts))} hurts: leaving it out raises the score (by up "
+                        f"to {points(max(hurts)).lstrip('+')})")
+        if keys:
+            keys.append(f"dotted underline: no measurable effect, its 95% interval holds 0 "
+                        f"({quiet} of {len(r.effects)})")
+        else:
+            keys.append(f"No phrase changes the score measurably on these {r.n_items} items: "
+                        "each one's 95% interval holds 0 (dotted underline).")
         parts = [
             f"<b>Phrase importance of {escape(r.label)}</b>: {r.base_passed}/{r.n_items} = "
             f"{rate:.0%} on the tuning items; each phrase left out alone.",
-            f"{swatch(-scale)} helps (leaving it out lowers the score, by up to "
-            f"{points(scale).lstrip('+')}) &nbsp; {swatch(scale)} hurts (leaving it out "
-            f"raises it) &nbsp; dotted underline: no measurable effect ({quiet} of "
-            f"{len(r.effects)}; its 95% interval holds 0)",
+            " &nbsp; ".join(keys),
         ]
         if early:
             parts.append(f"{early} of {len(r.effects)} stopped early (they clearly matter; "
