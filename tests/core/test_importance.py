@@ -182,3 +182,35 @@ def test_the_report_shows_each_analysed_version_with_n_intervals_and_cautions(ro
     from honebench.core.importance import points
     assert f"<td>{points(route.low)} to {points(route.high)}</td>" in section
     assert word.verdict() in section
+
+
+@pytest.mark.model
+def test_the_bundled_model_end_to_end_with_label_scoring(tmp_path, sample_dir, local_engine):
+    """The real grading path: label scoring with calibration, side runs, the cache."""
+    from tests.core.suggest_fixtures import small_project
+
+    project = small_project(tmp_path, sample_dir)
+    try:
+        text = ("This message is about a refund. Department (refund, booking_change, "
+                "lost_property, accessibility or timetable): ")
+        entry = project.keep(Wording(text, "answer")).value
+        result = project.importance(local_engine, entry.id, early_stop=False).value
+        assert result.status == "finished" and result.params["answer_mode"] == "score"
+        assert [e.phrase for e in result.effects] == phrases(text)
+        # the deltas are what the side runs' own marks say, item by item
+        runs = project.store.runs(purpose="importance")
+        marks = {r.wording_text: {m.item_id: m.passed for m in project.store.marks(r.id)}
+                 for r in runs}
+        base = marks[text]
+        for phrase, effect in zip(split_phrases(text), result.effects):
+            without = marks[leave_out(text, phrase)]
+            fixed = sum(without[i] and not base[i] for i in base)
+            broken = sum(base[i] and not without[i] for i in base)
+            assert (effect.fixed, effect.broken) == (fixed, broken)
+            # source: scipy.stats.binomtest on the discordant pairs (exact McNemar)
+            expected = binomtest(fixed, fixed + broken, 0.5).pvalue if fixed + broken else 1.0
+            assert effect.p_value == pytest.approx(expected, rel=1e-12)
+        again = project.importance(local_engine, entry.id, early_stop=False).value
+        assert again.model_calls == 0 and again.effects == result.effects
+    finally:
+        project.close()
