@@ -16,6 +16,9 @@ add false findings) is not graded further: it clearly matters. Its delta then co
 fewer items and, as for any early stop, tends to overstate the size of the effect; the
 result says which phrases stopped early and on how many items. Without early stopping every
 phrase is graded on every tuning item. Answers come from the cache where they can.
+
+A phrase holding a {field} placeholder is left out like any other; for the placements
+before / after the question the item's input is then added where the placement puts it.
 """
 from __future__ import annotations
 
@@ -172,7 +175,9 @@ class ImportanceResult:
         """The human table and the cautions."""
         rate = self.base_passed / self.n_items if self.n_items else 0.0
         head = (f"{self.label} scores {self.base_passed}/{self.n_items} = {rate:.1%} on the "
-                f"tuning items; each phrase left out alone:")
+                "tuning items. Each phrase left out alone; delta = the score without it minus "
+                "the score with it (negative: the phrase helps), 95% paired interval, items "
+                "leaving it out fixes and breaks, exact paired p:")
         rows = [head, f"{'#':>2}  {'delta':>10}  {'95% interval':>21}  {'fixed':>5}  "
                       f"{'broken':>6}  {'p':>7}  {'n':>3}  phrase"]
         for e in self.effects:

@@ -112,7 +112,7 @@ class ImportanceControl(QObject):
             lambda ctx: operations.importance(project, handle, wording_id=wid,
                                               settings=settings, cancel=ctx.cancel_event,
                                               on_event=ctx.report),
-            done=self._done, failed=self._failed, cancelled=self._cancelled,
+            done=lambda result: self._done(result, project), failed=self._failed, cancelled=self._cancelled,
             progress=self._progress, name=f"phrase importance of {entry.label}",
             uses_model=True)
         self.update_enabled()
@@ -139,10 +139,13 @@ class ImportanceControl(QObject):
         self._end()
         self.bar.say("Stopped; the answers graded so far are in the cache.")
 
-    def _done(self, result) -> None:
+    def _done(self, result, project) -> None:
         self._end()
         if result.status != "finished":
             self._cancelled()
+            return
+        if project is not self.session.project:  # another project was opened meanwhile
+            self.bar.say("")
             return
         if self.editor.wording() != Wording(result.text, result.placement):
             self.load_into_editor(Wording(result.text, result.placement), result.wording_id)
