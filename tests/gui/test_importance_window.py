@@ -117,3 +117,23 @@ def test_the_shading_on_a_dark_palette_picture(qtbot):
         assert len(editor.text_edit.extraSelections()) == 4
         editor.resize(520, 300)
         editor.grab().save(f"/tmp/importance_editor_{name}.png")
+
+
+def test_changing_the_placement_clears_the_shading(qtbot):
+    from honebench.core.importance import ImportanceResult, PhraseEffect
+    from honebench.gui.grading.editor import WordingEditor
+
+    text = "Route it. Reply with one word."
+    effects = (PhraseEffect(0, "Route it.", 0, 9, 40, 30, 18, 1, 13, 0.002, -0.45, -0.15),
+               PhraseEffect(1, "Reply with one word.", 10, 30, 40, 30, 30, 2, 2, 1.0, -0.1,
+                            0.1))
+    editor = WordingEditor()
+    qtbot.addWidget(editor)
+    editor.set_wording(Wording(text, "system"))
+    assert not editor.show_importance(ImportanceResult(1, "v1", "other text", "system",
+                                                       "tuning", 40, 30, effects, True))
+    assert editor.show_importance(ImportanceResult(1, "v1", text, "system", "tuning", 40, 30,
+                                                   effects, True))
+    assert len(editor.text_edit.extraSelections()) == 2
+    editor.placement.setCurrentIndex(editor.placement.findData("before"))
+    assert editor.text_edit.extraSelections() == [] and editor.shading.result is None

@@ -142,6 +142,9 @@ class WordingEditor(QWidget):
 
     # -- internals -----------------------------------------------------------------------
     def _changed(self, *_args) -> None:
+        shown = self.shading.result
+        if shown is not None and self.placement.currentData() != shown.placement:
+            self.shading.clear()  # the shading describes the wording as analysed
         self._update_notes()
         self.wording_changed.emit(self.wording())
 
