@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import time
 
-from PySide6.QtCore import Qt
-from PySide6.QtGui import QColor, QPalette
+from PySide6.QtCore import QEvent, Qt
+from PySide6.QtGui import QColor, QHelpEvent, QPalette
+from PySide6.QtWidgets import QApplication, QToolTip
 
 from honebench.core.wording import Wording
 from honebench.gui.grading.phrase_shading import MIN_CONTRAST, contrast, shade
@@ -135,5 +136,11 @@ def test_changing_the_placement_clears_the_shading(qtbot):
     assert editor.show_importance(ImportanceResult(1, "v1", text, "system", "tuning", 40, 30,
                                                    effects, True))
     assert len(editor.text_edit.extraSelections()) == 2
+    # hovering the first phrase shows its numbers
+    editor.show()
+    view = editor.text_edit.viewport()
+    at = editor.text_edit.cursorRect(editor.text_edit.textCursor()).center()
+    QApplication.sendEvent(view, QHelpEvent(QEvent.Type.ToolTip, at, view.mapToGlobal(at)))
+    assert "Leaving this phrase out: -30 pts on 40 items" in QToolTip.text()
     editor.placement.setCurrentIndex(editor.placement.findData("before"))
     assert editor.text_edit.extraSelections() == [] and editor.shading.result is None
