@@ -214,3 +214,15 @@ def test_the_bundled_model_end_to_end_with_label_scoring(tmp_path, sample_dir, l
         assert again.model_calls == 0 and again.effects == result.effects
     finally:
         project.close()
+
+
+def test_compare_offers_the_same_paired_interval(routing):
+    project, known = routing
+    engine = fake(known)
+    first = project.keep(Wording(TEXT, "before")).value
+    second = project.keep(Wording(leave_out(TEXT, split_phrases(TEXT)[1]), "before")).value
+    comparison = project.compare(engine, first.id, second.id).value
+    effect = project.importance(engine, first.id, early_stop=False).value.effects[1]
+    assert comparison.difference_interval == (effect.low, effect.high)
+    assert (len(comparison.fixed), len(comparison.broken)) == (effect.fixed, effect.broken)
+    assert comparison.paired.p_value == effect.p_value
