@@ -111,6 +111,9 @@ def build_parser() -> argparse.ArgumentParser:
 
     from .commands_transfer import add_parser as add_transfer_parser
     add_transfer_parser(verbs)
+    from .commands_importance import add_parser as add_importance
+
+    add_importance(verbs, _engine_args)
 
     e = verbs.add_parser("export", help="write the report, all marks, or the chosen wording")
     e.add_argument("project")
@@ -176,6 +179,9 @@ def main(argv: list[str] | None = None) -> int:
         if args.verb == "transfer":
             from .commands_transfer import transfer_verb
             return transfer_verb(args)
+        if args.verb == "importance":
+            from .commands_importance import importance_verb
+            return importance_verb(args)
         from . import commands
         return getattr(commands, f"{args.verb}_verb")(args)
     except (SetError, EngineError, StoreError, ValueError, LookupError, OSError) as exc:

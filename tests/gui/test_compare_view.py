@@ -142,6 +142,8 @@ def test_compare_view_lists_match_the_marks_of_two_real_runs(qtbot, runner, sett
     assert view.fixed_box.title().startswith(f"Fixed items ({len(fixed)} of 11)")
     assert f"/11, 95% interval" in view.score_a.text()
     assert "exact McNemar" in view.test.text()
+    assert "95% paired interval" in view.test.text()  # the one phrase importance shows
+    view.grab().save("/tmp/importance_compare_view.png")
 
     pair_view = view.open_pair(view.broken_list, 0)
     first = view.pairs("broken")[0]

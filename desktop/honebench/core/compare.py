@@ -15,7 +15,7 @@ from scipy.stats import bootstrap
 
 from .records import Mark, ShelfEntry
 from .sets import Item
-from .stats import Paired, Score, paired_exact, score
+from .stats import Paired, Score, paired_difference_interval, paired_exact, score
 from .store import Store
 
 BOOTSTRAP_SEED = 20240605  # fixed so the same runs always give the same interval
@@ -66,6 +66,12 @@ class Comparison:
     @property
     def n(self) -> int:
         return len(self.item_ids)
+
+    @property
+    def difference_interval(self) -> tuple[float, float]:
+        """95% interval of B's pass rate minus A's on these items (the paired interval
+        phrase importance shows; stats.paired_difference_interval)."""
+        return paired_difference_interval(self.paired)
 
     @property
     def fixed_ids(self) -> list[str]:

@@ -91,6 +91,7 @@ class Plan:
     items: tuple[Item, ...]
     split: str = "tuning"
     wording_id: int | None = None
+    purpose: str = ""  # "" for a grade run; an analysis' side runs name it ("importance")
 
 
 class Grader:
@@ -104,13 +105,12 @@ class Grader:
               items: Sequence[Item] | None = None, wording_id: int | None = None,
               on_mark: Callable[[Mark, Progress], None] | None = None,
               cancel: threading.Event | None = None, purpose: str = "") -> RunOutcome:
-        """One grade run of one wording."""
+        """One grade run of one wording (``purpose``: see Plan)."""
         items = tuple(items if items is not None else select_items(qset, split))
-        plan = Plan(wording, items, split, wording_id)
+        plan = Plan(wording, items, split, wording_id, purpose)
         relay = (lambda _i, mark, prog: on_mark(mark, prog)) if on_mark else None
         return self.grade_many(set_id=set_id, qset=qset, plans=[plan], check=check,
-                               params=params, on_mark=relay, cancel=cancel,
-                               purpose=purpose)[0]
+                               params=params, on_mark=relay, cancel=cancel)[0]
 
     def grade_many(self, *, set_id: int, qset: QuestionSet, plans: Sequence[Plan],
                    check: CheckSpec, params: Params = Params(),
@@ -138,7 +138,7 @@ class Grader:
             split=p.split, fingerprint=fingerprint,
             params=_with_prior(params.as_dict(), check.labels, prior),
             check=check.as_dict(), n_items=len(p.items), wording_id=p.wording_id,
-            purpose=purpose), p)
+            purpose=p.purpose or purpose), p)
             for p, prior in zip(plans, priors)]
         scoring = params.answer_mode == "score"
 

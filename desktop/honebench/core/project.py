@@ -19,6 +19,7 @@ from .compare import latest_run
 from .cost import RunCost, run_cost as cost_of_run
 from .operations.exports import ExportOps
 from .operations.grading import GradingOps
+from .operations.importance import ImportanceOps
 from .operations.improve import ImproveOps
 from .operations.shelf import ShelfOps
 from .operations.transfer import TransferOps
@@ -84,7 +85,7 @@ def preview_set(set_path: str | Path, *, sheet: str | int | None = None,
     return head, mapping, problems, CheckSpec.from_dict(recipe["check"]) if recipe else None
 
 
-class Project(GradingOps, ShelfOps, ImproveOps, ExportOps, TransferOps):
+class Project(GradingOps, ShelfOps, ImproveOps, ExportOps, TransferOps, ImportanceOps):
     def __init__(self, path: str | Path):
         self.path = project_file(path)
         self.path.parent.mkdir(parents=True, exist_ok=True)

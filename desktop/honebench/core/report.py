@@ -19,6 +19,7 @@ from .chart_svg import progress_chart_svg
 from .compare import Comparison, compare_entries, latest_run, run_name
 from .honesty import ShelfAssessment, assess_shelf
 from .project import Project, ShelfRow
+from .report_importance import importance_section
 from .records import ShelfEntry
 from .report_cost import cost_section
 from .report_transfer import transfer_section
@@ -292,6 +293,7 @@ def report_html(project: Project, *, chosen_id: int | None = None) -> str:
         _section("chart", "Progress chart", chart),
         cost_section(rows),
         transfer_section(project),  # "" when no transfer check was run
+        importance_section(project),
         _section("cautions", "Cautions", _cautions(qset, found.variants_tried)),
     ]
     return ("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"

@@ -4,6 +4,7 @@ All distributions come from scipy; nothing here is hand-written probability code
 """
 from __future__ import annotations
 
+import math
 import operator
 from collections import Counter
 from dataclasses import dataclass
@@ -113,6 +114,33 @@ def paired_exact(a_passed: Sequence[bool], b_passed: Sequence[bool]) -> Paired:
     discordant = fixed + broken
     p = 1.0 if discordant == 0 else float(binomtest(fixed, discordant, 0.5).pvalue)
     return Paired(fixed, broken, counts[(True, True)], counts[(False, False)], min(p, 1.0))
+
+
+def paired_difference_interval(paired: Paired, confidence: float = 0.95) -> tuple[float, float]:
+    """Interval for B's pass rate minus A's over the same items: Newcombe's hybrid score
+    interval for paired proportions (his method 10), built from the Wilson intervals of
+    both pass rates and the correlation of the paired marks. No items: (-1.0, 1.0)."""
+    n = paired.fixed + paired.broken + paired.both_pass + paired.both_fail
+    if n == 0:
+        return -1.0, 1.0
+    b_passed, a_passed = paired.both_pass + paired.fixed, paired.both_pass + paired.broken
+    p_b, p_a = b_passed / n, a_passed / n
+    low_b, high_b = wilson_interval(b_passed, n, confidence)
+    low_a, high_a = wilson_interval(a_passed, n, confidence)
+    # phi: correlation of A's and B's pass/miss over the items (0 when a margin is empty),
+    # a positive one shrunk by n/2 in its numerator so that runs agreeing on every item
+    # still get an interval of some width (the method's correction, from memory)
+    margins = a_passed * (n - a_passed) * b_passed * (n - b_passed)
+    agree = paired.both_pass * paired.both_fail - paired.fixed * paired.broken
+    if agree > 0:
+        agree = max(agree - n / 2, 0.0)
+    phi = agree / math.sqrt(margins) if margins else 0.0
+    diff = p_b - p_a
+    below = math.sqrt(max(0.0, (p_b - low_b) ** 2 - 2 * phi * (p_b - low_b) * (high_a - p_a)
+                          + (high_a - p_a) ** 2))
+    above = math.sqrt(max(0.0, (high_b - p_b) ** 2 - 2 * phi * (high_b - p_b) * (p_a - low_a)
+                          + (p_a - low_a) ** 2))
+    return max(-1.0, diff - below), min(1.0, diff + above)
 
 
 @dataclass(frozen=True)

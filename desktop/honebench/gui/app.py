@@ -36,6 +36,7 @@ from .project.session import ProjectSession
 from .project.state import interrupted_text
 from ..core.project import DEMO_NAME
 from .shelf.control import ShelfControl
+from .shelf.importance import ImportanceControl
 from .shelf.model import ShelfModel
 from .shelf.panel import ShelfPanel
 from .suggest.panel import SuggestPanel
@@ -79,6 +80,10 @@ class App:
                                                          show_problem=problem, status=status,
                                                          dialog_parent=w, parent=w)
         self.compare.bar.add_button(self.transfer.button)
+        self.importance = ImportanceControl(
+            runner, self.session, self.shelf_model, self.shelf_panel, self.editor, self.engine,
+            load_into_editor=self.shelf.load_into_editor, status=status, show_problem=problem,
+            window=w, parent=w)
         self.exports = ExportControl(runner, self.session, settings, w, problem, status, w)
         self.suggest = SuggestPanel(runner, self.session, self.shelf_model, self.engine,
                                     editor_wording=self.editor.wording,

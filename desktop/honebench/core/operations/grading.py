@@ -29,8 +29,8 @@ def grade_wording(project, engine, wording: Wording, *, split: str = "tuning",
                   purpose: str = "") -> RunOutcome:
     """Grade one wording on one split of the current set (or the given items) with the
     project's check; ``params`` default to the project's settings. Sends Started, then one
-    Marked per item. Cached answers cost no model call. ``purpose`` (e.g. "transfer")
-    makes a side run that stays out of shelf scores."""
+    Marked per item. Cached answers cost no model call. ``purpose`` names an analysis'
+    side run ("transfer", "importance"), left out of shelf scores."""
     set_id, qset = project.current_set()
     items = tuple(items) if items is not None else select_items(qset, split)
     params = params or project.settings().params()

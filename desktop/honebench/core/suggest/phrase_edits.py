@@ -10,9 +10,25 @@ import re
 _SPLIT = re.compile(r"(?<=[.!?;])\s+")
 
 
+def phrase_spans(text: str) -> list[tuple[int, int]]:
+    """Where each phrase of ``text`` starts and ends (character offsets into ``text``
+    itself): sentences, split after . ! ? and ; (commas and colons stay inside a phrase).
+    The whitespace between phrases and around the text belongs to no phrase."""
+    lead = len(text) - len(text.lstrip())
+    body = text.strip()
+    spans, at = [], 0
+    for gap in _SPLIT.finditer(body):
+        if gap.start() > at:
+            spans.append((lead + at, lead + gap.start()))
+        at = gap.end()
+    if at < len(body):
+        spans.append((lead + at, lead + len(body)))
+    return spans
+
+
 def phrases(text: str) -> list[str]:
     """Sentences, split after . ! ? and ; (commas and colons stay inside a phrase)."""
-    return [p for p in _SPLIT.split(text.strip()) if p]
+    return [text[start:end] for start, end in phrase_spans(text)]
 
 
 def _join(parts: list[str]) -> str:

@@ -16,6 +16,7 @@ from PySide6.QtWidgets import (QComboBox, QDialog, QDialogButtonBox, QFormLayout
                                QWidget)
 
 from ...core.compare import Comparison, ItemPair
+from ...core.importance import points
 from ...core.records import Mark
 from ..grading.item_view import _selectable, _shown, _text_box, _titled, result_text
 from ...core.project import SPLIT_WORDS
@@ -261,6 +262,9 @@ class CompareView(QDialog):
         else:
             test = (f"Paired test (exact McNemar, on the {p.fixed + p.broken} items where they "
                     f"disagree): {p.text(c.name_b)}. {agree}")
+        low, high = c.difference_interval
+        test += (f" {c.name_b} minus {c.name_a}: {points(c.score_b.rate - c.score_a.rate)} "
+                 f"(95% paired interval {points(low)} to {points(high)}).")
         self.test.setText(test)
         self.bootstrap.setVisible(c.mean_difference is not None)
         if c.mean_difference is not None:

@@ -13,6 +13,7 @@ from PySide6.QtWidgets import (QComboBox, QHBoxLayout, QLabel, QPlainTextEdit, Q
                                QVBoxLayout, QWidget)
 
 from ...core.wording import PLACEMENT_LABELS, PLACEMENTS, Wording, placeholders
+from .phrase_shading import PhraseShading
 
 PLACEMENT_NOTES = {
     "system": "The wording is the system message; each item's input follows as the user message.",
@@ -70,6 +71,7 @@ class WordingEditor(QWidget):
             "e.g. {message}.")
         self.text_edit.setTabChangesFocus(True)
         self.highlighter = PlaceholderHighlighter(self.text_edit.document(), self.palette())
+        self.shading = PhraseShading(self.text_edit)  # phrase importance, when shown
 
         self.placement = QComboBox()
         self.placement.setAccessibleName("Placement of the wording")
@@ -97,6 +99,7 @@ class WordingEditor(QWidget):
         layout.addLayout(head)
         layout.addWidget(self.text_edit, 1)
         layout.addWidget(self.notes)
+        layout.addWidget(self.shading.legend)
 
         self.text_edit.textChanged.connect(self._changed)
         self.placement.currentIndexChanged.connect(self._changed)
@@ -126,6 +129,11 @@ class WordingEditor(QWidget):
         self.highlighter.set_fields(self.fields)
         self._update_notes()
 
+    def show_importance(self, result) -> bool:
+        """Shade the phrases by a core ImportanceResult (False when the editor does not
+        hold the analysed wording)."""
+        return self.shading.show_result(result)
+
     def undo(self) -> None:
         self.text_edit.undo()
 
@@ -134,6 +142,9 @@ class WordingEditor(QWidget):
 
     # -- internals -----------------------------------------------------------------------
     def _changed(self, *_args) -> None:
+        shown = self.shading.result
+        if shown is not None and self.placement.currentData() != shown.placement:
+            self.shading.clear()  # the shading describes the wording as analysed
         self._update_notes()
         self.wording_changed.emit(self.wording())
 
@@ -160,4 +171,5 @@ class WordingEditor(QWidget):
 
         if event.type() == QEvent.Type.PaletteChange:
             self.highlighter.set_palette(self.palette())
+            self.shading.repaint()
         super().changeEvent(event)

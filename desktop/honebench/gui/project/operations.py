@@ -227,6 +227,15 @@ def latest_transfer(project, engine=None) -> Done:
     return Done(project.latest_transfer(), NOTHING)
 
 
+def importance(project, engine, *, wording_id: int, settings: ProjectSettings | None = None,
+               cancel=None, on_event: Listener = _quiet) -> Done:
+    """Which phrases of a shelf version carry its score: each left out alone, graded on the
+    tuning items. Returns Done[ImportanceResult] (a cancelled one is not saved)."""
+    with engine as model:
+        return project.importance(model, wording_id, settings=settings, on_event=on_event,
+                                  cancel=cancel)
+
+
 # -- the shelf ---------------------------------------------------------------------------
 def keep(project, engine=None, *, wording: Wording, parent_id: int | None = None,
          origin: str = "typed", note: str = "", inputs: dict | None = None) -> Done:
