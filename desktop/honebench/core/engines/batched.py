@@ -34,11 +34,14 @@ class Job:
 class BatchDecoder:
     n_seq_max = 64  # sequences in the context: items, and label continuations when scoring
     # Pack the own parts of items that start together into one decode with the running
-    # items' next tokens. Off for generation: llama.cpp's logits for a token move slightly
-    # (up to ~0.5 in a logit, measured) with how decode calls are split and where the item
-    # sits in memory, enough to change a greedy token now and then, so a packed item's text
-    # could differ from the same item run alone. Label scoring always packs (a label choice
-    # rarely moves, and the speed matters most there).
+    # items' next tokens. Off for generation. llama.cpp's logits for a token move slightly
+    # (up to ~0.5 in a logit, measured) with how many tokens share a decode call, so a
+    # greedy token can change: over 16 routing items at 24 tokens, greedy texts differed
+    # from one item at a time in 3 items with several items a call and the own parts
+    # decoded alone, and in 6 with the own parts packed (one at a time, twice: no
+    # difference). No setting of this llama.cpp build (flash attention on, unified memory)
+    # made several sequences a call give one-at-a-time tokens. Label scoring always packs
+    # (a label choice rarely moves, and the speed matters most there).
     pack = False
     # Cancel is checked between llama_decode calls, never inside one: llama.cpp's abort
     # callback would be a Python function called from C in the middle of a decode, and a

@@ -89,12 +89,14 @@ class LocalEngine:
     kind = "local"
 
     def __init__(self, model_path: str | Path | None = None, *, n_ctx: int = 2048,
-                 n_threads: int | None = None, n_batch: int = 512, n_seq: int = 4,
+                 n_threads: int | None = None, n_batch: int = 512, n_seq: int = 8,
                  score_group: int = 16, score_all_tokens: bool = False):
         self.model_path = check_model_file(model_path or bundled_model_path())
         self.n_ctx, self.n_batch = n_ctx, n_batch
         self.n_threads = n_threads or physical_cores()
-        self.n_seq = n_seq  # items generated together
+        # items generated together; batched decoding on 2 cores, measured: 1 sequence 112
+        # tokens/s, 4: 177, 8: 204, 16: 217
+        self.n_seq = n_seq
         self.score_group = score_group  # items whose labels are scored together
         self.score_all_tokens = score_all_tokens  # see label_scoring.py ("full")
         self._batcher: BatchDecoder | None = None
