@@ -49,11 +49,12 @@ class BatchDecoder:
     # therefore evaluated ``chunk`` tokens per call, so cancel still lands within one
     # short decode.
     chunk = 128
-    # Label scoring evaluates the own parts of a group of items (16 of ~30 tokens on the
+    # Label scoring evaluates the own parts of a group of items (8 of ~30 tokens on the
     # routing sample) in calls of up to this many tokens: fewer, fuller calls evaluate more
-    # tokens a second (measured: 16 items in 512-token calls took 0.45-0.55x the time of 8
-    # in 128-token calls on a busy machine, same labels chosen), at the price of cancel
-    # waiting for one such call.
+    # tokens a second (measured on a busy machine: 8 items in 256-token calls took ~0.6x
+    # the time of 128-token calls, same labels chosen), at the price of cancel waiting for
+    # one such call. (Groups of 16 were faster still there, but then a short run's marks
+    # all arrive at once; the group stays 8.)
     score_chunk = 512
 
     def __init__(self, llm, *, n_ctx: int, n_seq: int, n_threads: int,

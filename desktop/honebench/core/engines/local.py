@@ -90,7 +90,7 @@ class LocalEngine:
 
     def __init__(self, model_path: str | Path | None = None, *, n_ctx: int = 2048,
                  n_threads: int | None = None, n_batch: int = 512, n_seq: int = 8,
-                 score_group: int = 16, score_all_tokens: bool = False):
+                 score_group: int = 8, score_all_tokens: bool = False):
         self.model_path = check_model_file(model_path or bundled_model_path())
         self.n_ctx, self.n_batch = n_ctx, n_batch
         self.n_threads = n_threads or physical_cores()
