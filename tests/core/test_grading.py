@@ -212,3 +212,17 @@ def test_a_generated_fallback_says_so_in_the_why(project):
     outcome = _grade(project, NoLogprobs())
     assert all("the endpoint gave no logprobs" in m.why and m.confidence is None
                for m in outcome.marks)
+
+
+def test_a_cached_regrade_reports_every_mark_and_saves_them_in_order(project):
+    """Cached marks are saved together, yet each reaches on_mark with its progress, and
+    the saved marks equal the ones returned, in item order."""
+    engine = FakeEngine(lambda r: "timetable")
+    first = _grade(project, engine)
+    seen = []
+    second = _grade(project, engine, on_mark=lambda m, p: seen.append((m.item_id, p.done, p.cached)))
+    n = len(first.marks)
+    assert [s[1] for s in seen] == list(range(1, n + 1)) == [s[2] for s in seen]
+    assert [s[0] for s in seen] == [m.item_id for m in second.marks]
+    assert project.store.marks(second.run_id) == list(second.marks)
+    assert project.store.run(second.run_id).status == "finished"

@@ -146,3 +146,27 @@ def test_schema_3_file_gains_side_runs_and_analyses(tmp_path):
     assert [(a["id"], a["subject"], a["result"]) for a in saved] == [
         (found, "other.gguf", {"runs": [side]})]
     assert store.analyses("importance") == []
+
+
+def test_cache_lookup_of_many_keys_and_marks_in_one_transaction(tmp_path, routing):
+    """cache_get_many gives the same rows as cache_get, key by key, across chunks; add_marks
+    saves marks in order from the given seq, like add_mark one at a time."""
+    store = Store(tmp_path / "p.hone")
+    for i in range(7):
+        store.cache_put(f"k{i}", fingerprint="fp", params="{}", prompt=f"p{i}", text=f"t{i}",
+                        prompt_tokens=i, completion_tokens=1, seconds=0.1, finish_reason="stop")
+    found = store.cache_get_many(["k1", "nope", "k5", "k1", "k6", "k0"], chunk=2)
+    assert sorted(found) == ["k0", "k1", "k5", "k6"]
+    assert all(dict(found[k]) == dict(store.cache_get(k)) for k in found)
+    assert store.cache_get_many([]) == {}
+    set_id = store.add_set(routing)
+    run = store.start_run(set_id=set_id, wording_text="w", placement="system", split="tuning",
+                          fingerprint="fp", params={}, check={}, n_items=4)
+    store.add_mark(run, Mark(item_id="a", output="x", extracted="x", passed=True, why="ok"), 0)
+    store.add_marks(run, [Mark(item_id=i, output="y", extracted="y", passed=False, why="no",
+                               cached=True) for i in ("b", "c", "d")], 1)
+    store.add_marks(run, [], 4)
+    marks = store.marks(run)
+    assert [m.item_id for m in marks] == ["a", "b", "c", "d"]
+    assert [m.cached for m in marks] == [False, True, True, True]
+    store.close()

@@ -13,6 +13,7 @@ Lines taken by first_line and after_marker lose surrounding spaces and markdown 
 """
 from __future__ import annotations
 
+import functools
 import re
 import string
 import unicodedata
@@ -98,7 +99,15 @@ def label_key(value: object) -> str:
 
     Unlike ``normalize_answer`` it keeps articles, so labels "A" and "B" stay distinct.
     """
+    if type(value) is str:
+        return _label_key_of_text(value)
     return " ".join(_strip_punct(_as_text(value).casefold()).split())
+
+
+@functools.lru_cache(maxsize=8192)
+def _label_key_of_text(text: str) -> str:
+    # the same labels are keyed again for every answer judged: remembered
+    return " ".join(_strip_punct(text.casefold()).split())
 
 
 def normalize_answer(value: object) -> str:

@@ -46,8 +46,16 @@ class RunOutcome:
 
 def cache_key(fingerprint: str, params: Params, prompt: str, extra: str = "") -> str:
     """``extra``: anything else that changes the answer (the labels scored, the stop rule)."""
-    parts = (fingerprint, repr(sorted(params.as_dict().items())), prompt)
-    raw = "\x1f".join(parts + ((extra,) if extra else ()))
+    return _key_from_parts(cache_key_parts(fingerprint, params), prompt, extra)
+
+
+def cache_key_parts(fingerprint: str, params: Params) -> str:
+    """The part of a cache key that is the same for every item of a run."""
+    return fingerprint + "\x1f" + repr(sorted(params.as_dict().items()))
+
+
+def _key_from_parts(head: str, prompt: str, extra: str) -> str:
+    raw = head + "\x1f" + prompt + ("\x1f" + extra if extra else "")
     return hashlib.sha256(raw.encode("utf-8")).hexdigest()
 
 
@@ -142,29 +150,44 @@ class Grader:
             for p, prior in zip(plans, priors)]
         scoring = params.answer_mode == "score"
 
-        def record(index: int, item: Item, result: Result, prompt: str) -> None:
-            run = runs[index]
+        verdicts: dict[tuple[str, str], object] = {}  # judge() is pure: one call per pair
+
+        def judged(item: Item, index: int, result: Result, prompt: str) -> Mark:
             if priors[index] is not None:
                 result = calibrate_result(result, check.labels, priors[index])
-            mark = _mark(item, result, prompt, check)
-            self.store.add_mark(run.id, mark, len(run.marks))
-            run.marks.append(mark)
-            tally.add(mark)
-            if on_mark:
-                on_mark(index, mark, tally.progress())
+            return _mark(item, result, prompt, check, verdicts)
+
+        def announce(index: int, marks: list[Mark]) -> None:
+            run = runs[index]
+            for mark in marks:
+                run.marks.append(mark)
+                tally.add(mark)
+                if on_mark:
+                    on_mark(index, mark, tally.progress())
+
+        def record(index: int, item: Item, result: Result, prompt: str) -> None:
+            mark = judged(item, index, result, prompt)
+            self.store.add_mark(runs[index].id, mark, len(runs[index].marks))
+            announce(index, [mark])
 
         try:
             pending = []
             for index, run in enumerate(runs):
-                pending += self._answer_from_cache(index, run.plan, params, check, fingerprint,
-                                                   record)
+                hits, waiting = self._look_up(index, run.plan, params, check, fingerprint)
+                # The cached marks of a run go in one transaction: a crash before it commits
+                # loses only marks the completion cache gives back on a re-grade or resume,
+                # so nothing the model computed is lost. Each still reaches on_mark.
+                marks = [judged(item, index, result, prompt) for item, result, prompt in hits]
+                self.store.add_marks(run.id, marks, len(run.marks))
+                announce(index, marks)
+                pending += waiting
             requests = [] if cancel.is_set() else [req for _, _, req, _, _ in pending]
             by_key = {req.key: (index, item, prompt, key)
                       for index, item, req, prompt, key in pending}
             tally.model_start = time.perf_counter()
             ask = self.engine.score_labels if scoring else self.engine.complete
-            with _CancelWatcher(cancel, self.engine):
-                for result in ask(requests):
+            with _CancelWatcher(cancel, self.engine, start=bool(requests)):
+                for result in (ask(requests) if requests else ()):
                     index, item, prompt, key = by_key[result.key]
                     if result.error is None:
                         self._remember(key, fingerprint, params, prompt, result, check.labels)
@@ -194,12 +217,12 @@ class Grader:
         blanks = tuple(Item(id=f"content-free {i}", fields=content_free_fields(names, filler),
                             expected="", split=plan.split, row=0)
                        for i, filler in enumerate(CONTENT_FREE))
-        found: dict[str, Result] = {}
-        pending = self._answer_from_cache(
-            0, Plan(plan.wording, blanks, plan.split), params, check, fingerprint,
-            lambda _i, item, result, _p: found.__setitem__(item.id, result))
+        hits, pending = self._look_up(0, Plan(plan.wording, blanks, plan.split), params, check,
+                                      fingerprint)
+        found: dict[str, Result] = {item.id: result for item, result, _ in hits}
         by_key = {req.key: (item, prompt, key) for _, item, req, prompt, key in pending}
-        for result in self.engine.score_labels([req for _, _, req, _, _ in pending]):
+        asked = [req for _, _, req, _, _ in pending]
+        for result in (self.engine.score_labels(asked) if asked else ()):
             item, prompt, key = by_key[result.key]
             if result.error is None:
                 self._remember(key, fingerprint, params, prompt, result, check.labels)
@@ -210,10 +233,11 @@ class Grader:
             return None
         return average_prior(rows)
 
-    def _answer_from_cache(self, index: int, plan: Plan, params: Params, check: CheckSpec,
-                           fingerprint: str, record):
-        """Record cached answers at once; return (index, item, request, prompt, key) for
-        the rest."""
+    def _look_up(self, index: int, plan: Plan, params: Params, check: CheckSpec,
+                 fingerprint: str):
+        """(hits, pending): (item, cached result, prompt) for items whose answer is in the
+        completion cache (looked up together), (index, item, request, prompt, key) for the
+        rest, both in item order."""
         items, wording = plan.items, plan.wording
         names = list(items[0].fields) if items else []
         prefix = shared_prefix_chars(self.engine, wording, names)
@@ -222,22 +246,28 @@ class Grader:
         labels = tuple(check.labels) if scoring else ()
         extra = ("labels:" + "\x1e".join(labels) if scoring
                  else "" if rule is None else repr(rule))
-        pending = []
+        keyed = []
+        fixed = cache_key_parts(fingerprint, params) if params.temperature <= 0 else None
         for item in items:
             built = build_prompt(wording, item.fields)
             prompt = self.engine.render(built.messages, built.prefill)
             seed = item_seed(params.seed, item.id) if params.temperature > 0 else params.seed
-            key = cache_key(fingerprint, replace(params, seed=seed), prompt, extra)
-            hit = self.store.cache_get(key)
+            key = (cache_key(fingerprint, replace(params, seed=seed), prompt, extra)
+                   if fixed is None else _key_from_parts(fixed, prompt, extra))
+            keyed.append((item, built, prompt, seed, key))
+        found = self.store.cache_get_many(key for *_, key in keyed)
+        hits, pending = [], []
+        for item, built, prompt, seed, key in keyed:
+            hit = found.get(key)
             if hit is not None:
-                record(index, item, _cached_result(item.id, hit), prompt)
+                hits.append((item, _cached_result(item.id, hit), prompt))
                 continue
             pending.append((index, item, Request(
                 key=f"{index}\x1f{item.id}", messages=built.messages, prefill=built.prefill,
                 max_tokens=params.max_tokens, stop=params.stop,
                 temperature=params.temperature, seed=seed, prefix_chars=prefix,
                 labels=labels, until=rule), prompt, key))
-        return pending
+        return hits, pending
 
     def _remember(self, key: str, fingerprint: str, params: Params, prompt: str,
                   result: Result, labels: Sequence[str]) -> None:
@@ -273,12 +303,19 @@ def _cached_result(item_id: str, hit) -> Result:
                   label_shares=tuple(saved.get("shares", ())), note=saved.get("note", ""))
 
 
-def _mark(item: Item, result: Result, prompt: str, check: CheckSpec) -> Mark:
+def _mark(item: Item, result: Result, prompt: str, check: CheckSpec,
+          verdicts: dict | None = None) -> Mark:
+    """``verdicts``: earlier verdicts of this check by (output, expected), reused."""
     if result.error is not None:
         return Mark(item_id=item.id, output="", extracted="", passed=False,
                     why=f"error: {result.error}", error=result.error, prompt=prompt,
                     prompt_tokens=result.prompt_tokens, seconds=result.seconds)
-    verdict = judge(result.text, item.expected, check)
+    pair = (result.text, item.expected)
+    verdict = verdicts.get(pair) if verdicts is not None else None
+    if verdict is None:
+        verdict = judge(result.text, item.expected, check)
+        if verdicts is not None:
+            verdicts[pair] = verdict
     why, scored = verdict.why, {}
     if result.label_shares and len(result.label_shares) == len(check.labels):
         order = sorted(range(len(check.labels)), key=lambda i: -result.label_shares[i])
@@ -338,21 +375,27 @@ class _Tally:
 class _CancelWatcher:
     """Passes a cancel request on to the engine while a batch is running."""
 
-    def __init__(self, cancel: threading.Event, engine: Engine):
-        self.cancel, self.engine = cancel, engine
+    def __init__(self, cancel: threading.Event, engine: Engine, start: bool = True):
+        self.cancel, self.engine, self.start = cancel, engine, start
         self._stop = threading.Event()
         self._thread = threading.Thread(target=self._watch, name="honebench-cancel", daemon=True)
 
     def _watch(self) -> None:
-        while not self._stop.is_set():
-            if self.cancel.wait(0.05):
+        # waits on ``_stop`` (so leaving the block never waits out a poll) and looks at
+        # ``cancel`` every 50 ms
+        while True:
+            if self.cancel.is_set():
                 self.engine.cancel()
+                return
+            if self._stop.wait(0.05):
                 return
 
     def __enter__(self):
-        self._thread.start()
+        if self.start:  # nothing for the engine to do: nothing to watch
+            self._thread.start()
         return self
 
     def __exit__(self, *exc):
         self._stop.set()
-        self._thread.join()
+        if self.start:
+            self._thread.join()

@@ -18,6 +18,7 @@ from .records import Mark, RunInfo, ShelfEntry
 from .run_writers import stale_run_ids, this_writer
 from .store_files import READ_ONLY_HINT, StoreError, Transaction, connect, is_read_only
 from .sets import ColumnMapping, Item, QuestionSet
+from .store_cache import CompletionCache
 from .store_schema import MIGRATIONS
 
 SCHEMA_VERSION = len(MIGRATIONS)
@@ -28,7 +29,7 @@ def now() -> str:
     return datetime.now(timezone.utc).isoformat(timespec="seconds")
 
 
-class Store:
+class Store(CompletionCache):
     """One project file. Safe to share between threads: each thread has its own connection.
 
     A file that may not be written is opened read-only: everything can be read (reports,
@@ -241,16 +242,22 @@ class Store:
 
     def add_mark(self, run_id: int, mark: Mark, seq: int) -> None:
         """Commit one mark; ``seq`` is its arrival order within the run."""
+        self.add_marks(run_id, [mark], seq)
+
+    def add_marks(self, run_id: int, marks: Iterable[Mark], first_seq: int) -> None:
+        """Commit several marks in one transaction, in arrival order from ``first_seq``."""
+        rows = [(run_id, m.item_id, seq, m.output, m.extracted, int(m.passed), m.score, m.why,
+                 m.prompt_tokens, m.completion_tokens, m.seconds, m.error, int(m.cached),
+                 m.prompt, m.confidence, m.runner_up, m.runner_up_share)
+                for seq, m in enumerate(marks, start=first_seq)]
+        if not rows:
+            return
         with self._tx() as c:
-            c.execute(
+            c.executemany(
                 "INSERT OR REPLACE INTO marks(run_id, item_id, seq, output, extracted, passed, "
                 "score, why, prompt_tokens, completion_tokens, seconds, error, cached, prompt, "
                 "confidence, runner_up, runner_up_share) VALUES(?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
-                (run_id, mark.item_id, seq, mark.output, mark.extracted, int(mark.passed),
-                 mark.score, mark.why, mark.prompt_tokens, mark.completion_tokens, mark.seconds,
-                 mark.error, int(mark.cached), mark.prompt, mark.confidence, mark.runner_up,
-                 mark.runner_up_share),
-            )
+                rows)
 
     def finish_run(self, run_id: int, status: str, wall_seconds: float | None = None) -> None:
         with self._tx() as c:
@@ -358,24 +365,6 @@ class Store:
     def hone_rounds(self, session: int) -> list[sqlite3.Row]:
         return list(self._conn().execute(
             "SELECT * FROM hone_rounds WHERE session_id=? ORDER BY number", (session,)))
-
-    # -- completion cache ----------------------------------------------------------------
-    def cache_get(self, key: str) -> sqlite3.Row | None:
-        return self._conn().execute(
-            "SELECT * FROM completion_cache WHERE key=?", (key,)).fetchone()
-
-    def cache_put(self, key: str, *, fingerprint: str, params: str, prompt: str, text: str,
-                  prompt_tokens: int, completion_tokens: int, seconds: float,
-                  finish_reason: str, label_scores: str = "") -> None:
-        """``label_scores``: JSON of a scored answer's labels, log-probabilities and shares."""
-        with self._tx() as c:
-            c.execute(
-                "INSERT OR REPLACE INTO completion_cache(key, fingerprint, params, prompt, text, "
-                "prompt_tokens, completion_tokens, seconds, finish_reason, created_at, "
-                "label_scores) VALUES(?,?,?,?,?,?,?,?,?,?,?)",
-                (key, fingerprint, params, prompt, text, prompt_tokens, completion_tokens,
-                 seconds, finish_reason, now(), label_scores),
-            )
 
 
 def _statements(script: str) -> Iterable[str]:

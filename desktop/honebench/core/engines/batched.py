@@ -34,11 +34,14 @@ class Job:
 class BatchDecoder:
     n_seq_max = 64  # sequences in the context: items, and label continuations when scoring
     # Pack the own parts of items that start together into one decode with the running
-    # items' next tokens. Off for generation: llama.cpp's logits for a token move slightly
-    # (up to ~0.5 in a logit, measured) with how decode calls are split and where the item
-    # sits in memory, enough to change a greedy token now and then, so a packed item's text
-    # could differ from the same item run alone. Label scoring always packs (a label choice
-    # rarely moves, and the speed matters most there).
+    # items' next tokens. Off for generation. llama.cpp's logits for a token move slightly
+    # (up to ~0.5 in a logit, measured) with how many tokens share a decode call, so a
+    # greedy token can change: over 16 routing items at 24 tokens, greedy texts differed
+    # from one item at a time in 3 items with several items a call and the own parts
+    # decoded alone, and in 6 with the own parts packed (one at a time, twice: no
+    # difference). No setting of this llama.cpp build (flash attention on, unified memory)
+    # made several sequences a call give one-at-a-time tokens. Label scoring always packs
+    # (a label choice rarely moves, and the speed matters most there).
     pack = False
     # Cancel is checked between llama_decode calls, never inside one: llama.cpp's abort
     # callback would be a Python function called from C in the middle of a decode, and a
@@ -46,6 +49,13 @@ class BatchDecoder:
     # therefore evaluated ``chunk`` tokens per call, so cancel still lands within one
     # short decode.
     chunk = 128
+    # Label scoring evaluates the own parts of a group of items (8 of ~30 tokens on the
+    # routing sample) in calls of up to this many tokens: fewer, fuller calls evaluate more
+    # tokens a second (measured on a busy machine: 8 items in 256-token calls took ~0.6x
+    # the time of 128-token calls, same labels chosen), at the price of cancel waiting for
+    # one such call. (Groups of 16 were faster still there, but then a short run's marks
+    # all arrive at once; the group stays 8.)
+    score_chunk = 512
 
     def __init__(self, llm, *, n_ctx: int, n_seq: int, n_threads: int,
                  cancelled: Callable[[], bool]):
@@ -81,11 +91,12 @@ class BatchDecoder:
 
     # -- low-level helpers ---------------------------------------------------------------
     def decode_rows(self, entries: list[tuple[int, int, int, bool]],
-                    abortable: bool = True) -> list[np.ndarray]:
+                    abortable: bool = True, chunk: int | None = None) -> list[np.ndarray]:
         """Decode (token, position, sequence, wants_logits) entries; a copy of the logits of
         every entry that wants them, in order. With ``abortable`` the entries go in
-        ``chunk``-token calls and cancel is checked before each (RuntimeError when set)."""
-        step = self.chunk if abortable else 512
+        ``chunk``-token calls (default ``self.chunk``) and cancel is checked before each
+        (RuntimeError when set)."""
+        step = min(chunk or self.chunk, 512) if abortable else 512
         rows = []
         for start in range(0, len(entries), step):
             if abortable and self.cancelled():

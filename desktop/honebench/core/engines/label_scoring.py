@@ -157,7 +157,7 @@ def _score_group(dec, batch: list[ScoreJob]) -> Iterator[Result]:
             lib.llama_memory_seq_cp(mem, 0, seq, 0, job.prefix)
         own = job.tokens[job.prefix:job.plan.common]
         entries += [(t, job.prefix + i, seq, i == len(own) - 1) for i, t in enumerate(own)]
-    for job, row in zip(batch, dec.decode_rows(entries)):
+    for job, row in zip(batch, dec.decode_rows(entries, chunk=dec.score_chunk)):
         job.dists[()] = log_softmax(row)
     chains = [(job, tokens, wanted) for job in batch for tokens, wanted in job.plan.chains]
     free = list(range(dec.n_seq_max - 1, len(batch), -1))
@@ -174,7 +174,8 @@ def _score_group(dec, batch: list[ScoreJob]) -> Iterator[Result]:
                 for i, t in enumerate(tokens):
                     entries.append((t, job.plan.common + i, seq, i in wanted))
                 owners += [(job, tuple(tokens[:i + 1])) for i in wanted]
-            for (job, node), row in zip(owners, dec.decode_rows(entries)):
+            rows = dec.decode_rows(entries, chunk=dec.score_chunk)
+            for (job, node), row in zip(owners, rows):
                 job.dists[node] = log_softmax(row)
             for seq in used:
                 lib.llama_memory_seq_rm(mem, seq, -1, -1)

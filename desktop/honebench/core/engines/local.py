@@ -30,6 +30,7 @@ _FALLBACK_TEMPLATE = (
     "{% for m in messages %}<|im_start|>{{ m['role'] }}\n{{ m['content'] }}<|im_end|>\n"
     "{% endfor %}{% if add_generation_prompt %}<|im_start|>assistant\n{% endif %}"
 )
+_UNUSED_CTX = 64  # tokens in the Llama object's own (unused) context
 _LEVELS = {3: logging.WARNING, 4: logging.ERROR}  # ggml: 1 debug, 2 info, 3 warn, 4 error
 
 
@@ -88,12 +89,14 @@ class LocalEngine:
     kind = "local"
 
     def __init__(self, model_path: str | Path | None = None, *, n_ctx: int = 2048,
-                 n_threads: int | None = None, n_batch: int = 512, n_seq: int = 4,
+                 n_threads: int | None = None, n_batch: int = 512, n_seq: int = 8,
                  score_group: int = 8, score_all_tokens: bool = False):
         self.model_path = check_model_file(model_path or bundled_model_path())
         self.n_ctx, self.n_batch = n_ctx, n_batch
         self.n_threads = n_threads or physical_cores()
-        self.n_seq = n_seq  # items generated together
+        # items generated together; batched decoding on 2 cores, measured: 1 sequence 112
+        # tokens/s, 4: 177, 8: 204, 16: 217
+        self.n_seq = n_seq
         self.score_group = score_group  # items whose labels are scored together
         self.score_all_tokens = score_all_tokens  # see label_scoring.py ("full")
         self._batcher: BatchDecoder | None = None
@@ -123,8 +126,11 @@ class LocalEngine:
         chatter = io.StringIO()
         try:
             with contextlib.redirect_stderr(chatter), contextlib.redirect_stdout(chatter):
+                # The Llama object is used for its model, tokenizer and metadata only; all
+                # decoding runs in the batched decoder's own context, so its context is
+                # kept small (less memory to set up at load).
                 llm = llama_cpp.Llama(
-                    model_path=str(self.model_path), n_ctx=self.n_ctx, n_batch=self.n_batch,
+                    model_path=str(self.model_path), n_ctx=_UNUSED_CTX, n_batch=_UNUSED_CTX,
                     n_threads=self.n_threads, n_threads_batch=self.n_threads, verbose=True,
                     seed=0,
                 )
