@@ -11,7 +11,7 @@ from html import escape
 from math import ceil, floor, log10
 from typing import Sequence
 
-from .chart_svg import SHAPE_NAMES, SHAPES, _f, _marker
+from .chart_svg import SHAPE_NAMES, SHAPES, _f, _marker, percent_axis, svg_start
 from .cost import MEASURES, CostPoint, front_of, front_steps
 
 POINT = "#2b7bb9"
@@ -52,17 +52,7 @@ def cost_chart_svg(points: Sequence[CostPoint], *, measure: str = "tokens", widt
 
     desc = (f"{title}: tuning score against {MEASURES[measure]} for {len(points)} shelf "
             f"version{'s' if len(points) != 1 else ''}")
-    out = [f'<svg width="{width}" height="{height}" viewBox="0 0 {width} {height}" role="img" '
-           f'aria-label="{escape(desc)}" font-family="sans-serif" font-size="12">',
-           f"<title>{escape(desc)}</title>"]
-    for pct in (0, 25, 50, 75, 100):
-        y = y_at(pct / 100)
-        out.append(f'<line x1="{left}" y1="{_f(y)}" x2="{left + plot_w}" y2="{_f(y)}" '
-                   f'stroke="currentColor" stroke-opacity="{0.6 if pct == 0 else 0.15}"/>')
-        out.append(f'<text x="{left - 8}" y="{_f(y + 4)}" text-anchor="end" '
-                   f'fill="currentColor">{pct}%</text>')
-    out.append(f'<line x1="{left}" y1="{top}" x2="{left}" y2="{top + plot_h}" '
-               'stroke="currentColor" stroke-opacity="0.6"/>')
+    out = svg_start(width, height, desc) + percent_axis(y_at, left, top, plot_w, plot_h)
     base = top + plot_h
     for tick in ticks:
         x = x_at(tick)

@@ -59,6 +59,29 @@ def _runs_of_points(points: list[tuple[float, Score] | None]) -> list[list[tuple
     return stretches
 
 
+def svg_start(width: int, height: int, desc: str, standalone: bool = False) -> list[str]:
+    """The opening <svg> tag and its <title>; ``standalone`` adds the SVG namespace."""
+    namespace = ' xmlns="http://www.w3.org/2000/svg"' if standalone else ""
+    return [f'<svg{namespace} width="{width}" height="{height}" '
+            f'viewBox="0 0 {width} {height}" role="img" aria-label="{escape(desc)}" '
+            f'font-family="sans-serif" font-size="12">',
+            f"<title>{escape(desc)}</title>"]
+
+
+def percent_axis(y_at, left: float, top: float, plot_w: float, plot_h: float) -> list[str]:
+    """The 0-100% grid lines, their labels and the y axis line."""
+    out = []
+    for pct in (0, 25, 50, 75, 100):
+        y = y_at(pct / 100)
+        out.append(f'<line x1="{left}" y1="{_f(y)}" x2="{left + plot_w}" y2="{_f(y)}" '
+                   f'stroke="currentColor" stroke-opacity="{0.6 if pct == 0 else 0.15}"/>')
+        out.append(f'<text x="{left - 8}" y="{_f(y + 4)}" text-anchor="end" '
+                   f'fill="currentColor">{pct}%</text>')
+    out.append(f'<line x1="{left}" y1="{top}" x2="{left}" y2="{top + plot_h}" '
+               'stroke="currentColor" stroke-opacity="0.6"/>')
+    return out
+
+
 def progress_chart_svg(rows: Sequence[ShelfRow], *, width: int = 720, height: int = 340,
                        title: str = "Progress chart", standalone: bool = False) -> str:
     """An <svg> element (text) for the shelf rows, in the order given (order of creation).
@@ -74,20 +97,8 @@ def progress_chart_svg(rows: Sequence[ShelfRow], *, width: int = 720, height: in
         return top + (1 - rate) * plot_h
 
     desc = f"{title}: scores of {n} shelf version{'s' if n != 1 else ''}"
-    namespace = ' xmlns="http://www.w3.org/2000/svg"' if standalone else ""
-    out = [f'<svg{namespace} width="{width}" height="{height}" '
-           f'viewBox="0 0 {width} {height}" role="img" aria-label="{escape(desc)}" '
-           f'font-family="sans-serif" font-size="12">',
-           f"<title>{escape(desc)}</title>"]
-    # grid and y axis
-    for pct in (0, 25, 50, 75, 100):
-        y = y_at(pct / 100)
-        out.append(f'<line x1="{left}" y1="{_f(y)}" x2="{left + plot_w}" y2="{_f(y)}" '
-                   f'stroke="currentColor" stroke-opacity="{0.6 if pct == 0 else 0.15}"/>')
-        out.append(f'<text x="{left - 8}" y="{_f(y + 4)}" text-anchor="end" '
-                   f'fill="currentColor">{pct}%</text>')
-    out.append(f'<line x1="{left}" y1="{top}" x2="{left}" y2="{top + plot_h}" '
-               'stroke="currentColor" stroke-opacity="0.6"/>')
+    out = svg_start(width, height, desc, standalone)
+    out += percent_axis(y_at, left, top, plot_w, plot_h)
     cy = top + plot_h / 2
     out.append(f'<text x="16" y="{_f(cy)}" text-anchor="middle" fill="currentColor" '
                f'transform="rotate(-90 16 {_f(cy)})">score (% of items passed)</text>')

@@ -12,63 +12,18 @@ from typing import Sequence
 from PySide6.QtCharts import (QAreaSeries, QCategoryAxis, QChart, QChartView, QLineSeries,
                               QScatterSeries, QValueAxis)
 from PySide6.QtCore import QEvent, QMargins, QPointF, Qt
-from PySide6.QtGui import QBrush, QColor, QImage, QPainter, QPalette, QPen
+from PySide6.QtGui import QBrush, QColor, QPainter, QPalette, QPen
 from PySide6.QtWidgets import (QButtonGroup, QHBoxLayout, QLabel, QPushButton,
                                QStackedWidget, QVBoxLayout, QWidget)
 
 from ...core.project import ShelfRow
+from .chart_marks import mark_style, paint_axes, split_colour
 from .cost_chart import CostChart
 
 SPLITS = (("tuning", "tuning items"), ("held_out", "held-out items"))
 DECISIONS = (("kept", "kept"), ("set_aside", "set aside"), ("", "not decided"))
-MARKER = 11.0
 STEP = (-0.14, 0.14)  # half-width of each version's interval step, in versions
 EMPTY_TEXT = "No version has a score yet: grade a wording and keep it to start the chart."
-
-
-def split_colour(palette: QPalette, split: str) -> QColor:
-    """Tuning: the palette's highlight; held-out: its link colour, moved away in hue when
-    the two are alike. The lines differ by dash too, so colour is never the only cue."""
-    tuning = palette.color(QPalette.ColorRole.Highlight)
-    if split == "tuning":
-        return tuning
-    other = QColor(palette.color(QPalette.ColorRole.Link))
-    if abs(other.hslHue() - tuning.hslHue()) < 60:
-        other = QColor.fromHsl((tuning.hslHue() + 150) % 360, 170,
-                               max(90, min(170, other.lightness())))
-    return other
-
-
-def cross_image(colour: QColor, size: int = int(MARKER) + 3) -> QImage:
-    """An ✕ in ``colour`` on a transparent square, the brush of the set-aside markers."""
-    image = QImage(size, size, QImage.Format.Format_ARGB32)
-    image.fill(Qt.GlobalColor.transparent)
-    p = QPainter(image)
-    p.setRenderHint(QPainter.RenderHint.Antialiasing)
-    p.setPen(QPen(colour, 2.4, Qt.PenStyle.SolidLine, Qt.PenCapStyle.RoundCap))
-    p.drawLine(QPointF(2, 2), QPointF(size - 2, size - 2))
-    p.drawLine(QPointF(2, size - 2), QPointF(size - 2, 2))
-    p.end()
-    return image
-
-
-def mark_style(dots: QScatterSeries, decision: str, colour: QColor) -> None:
-    """Marker by decision: filled circle kept, cross set aside, hollow square not decided."""
-    dots.setMarkerSize(MARKER)
-    if decision == "kept":
-        dots.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeCircle)
-        dots.setColor(colour)
-        dots.setBorderColor(colour)
-    elif decision == "set_aside":
-        image = cross_image(colour)
-        dots.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeRectangle)
-        dots.setMarkerSize(image.width())
-        dots.setBrush(QBrush(image))
-        dots.setPen(QPen(Qt.PenStyle.NoPen))
-    else:
-        dots.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeRectangle)
-        dots.setBrush(QBrush(Qt.BrushStyle.NoBrush))
-        dots.setPen(QPen(colour, 1.8))
 
 
 def _scored(row: ShelfRow, split: str):
@@ -234,15 +189,8 @@ class ProgressChart(QWidget):
     def _style(self) -> None:
         """Colours from the current palette (called again when it changes)."""
         pal = self.palette()
-        text, grid = pal.color(QPalette.ColorRole.Text), pal.color(QPalette.ColorRole.Mid)
-        self.chart.setBackgroundBrush(pal.brush(QPalette.ColorRole.Base))
-        self.chart.setTitleBrush(QBrush(text))
-        self.view.setBackgroundBrush(pal.brush(QPalette.ColorRole.Base))
-        for axis in (self.x_axis, self.y_axis):
-            axis.setLabelsColor(text)
-            axis.setTitleBrush(QBrush(text))
-            axis.setGridLineColor(grid)
-            axis.setLinePenColor(grid)
+        paint_axes(self.chart, self.view, (self.x_axis, self.y_axis), pal)
+        self.chart.setTitleBrush(QBrush(pal.color(QPalette.ColorRole.Text)))
         for split, _name in SPLITS:
             colour = split_colour(pal, split)
             pen = QPen(colour, 2.2)

@@ -18,6 +18,7 @@ from PySide6.QtWidgets import (QComboBox, QGraphicsSimpleTextItem, QHBoxLayout, 
 from ...core.chart_cost_svg import nice_ticks
 from ...core.cost import MEASURES, SECONDS_CAUTION, CostPoint, cost_points, front_of, front_steps
 from ...core.project import ShelfRow
+from .chart_marks import mark_style, paint_axes, split_colour
 
 DECISIONS = (("kept", "kept"), ("set_aside", "set aside"), ("", "not decided"))
 EMPTY_TEXT = ("No version has both a tuning score and a measured cost yet: grade a wording "
@@ -190,23 +191,13 @@ class CostChart(QWidget):
 
     def _colours(self) -> tuple[QColor, QColor]:
         """(points, front): the palette's highlight, and a colour set apart in hue."""
-        from .chart import split_colour  # here: chart.py imports this module
-
         pal = self.palette()
         return split_colour(pal, "tuning"), split_colour(pal, "held_out")
 
     def _style(self) -> None:
-        from .chart import mark_style  # here: chart.py imports this module
-
         pal = self.palette()
-        text, grid = pal.color(QPalette.ColorRole.Text), pal.color(QPalette.ColorRole.Mid)
-        self.chart.setBackgroundBrush(pal.brush(QPalette.ColorRole.Base))
-        self.view.setBackgroundBrush(pal.brush(QPalette.ColorRole.Base))
-        for axis in (self.x_axis, self.y_axis):
-            axis.setLabelsColor(text)
-            axis.setTitleBrush(QBrush(text))
-            axis.setGridLineColor(grid)
-            axis.setLinePenColor(grid)
+        text = pal.color(QPalette.ColorRole.Text)
+        paint_axes(self.chart, self.view, (self.x_axis, self.y_axis), pal)
         point, front = self._colours()
         self.front_line.setPen(QPen(front, 2.2))
         self.rings.setMarkerShape(QScatterSeries.MarkerShape.MarkerShapeCircle)
