@@ -59,7 +59,9 @@ def build_parser() -> argparse.ArgumentParser:
 
     b = verbs.add_parser("bench", help="time the grader against a hand-written loop")
     b.add_argument("--set", dest="set_path", help="question set (default: the routing sample)")
-    b.add_argument("--items", type=int, default=24, help="items per timing (default 24)")
+    b.add_argument("--items", type=int, default=None,
+                   help="items per timing (default: the set's tuning items, 84 on the routing "
+                        "sample, as a user grades them)")
     b.add_argument("--model", help="GGUF file (default: the bundled model)")
 
     from .core.suggest.strategies import STRATEGIES

@@ -140,8 +140,9 @@ def _physical_limit(engine) -> tuple[float, float]:
     return engine._owner.call(measure)
 
 
-def run_bench(set_path: str | None = None, items: int = 24, model: str | None = None,
+def run_bench(set_path: str | None = None, items: int | None = None, model: str | None = None,
               repeats: int = 2, out=print) -> int:
+    from .grading import select_items
     from .project import Project
     from .wording import Wording, build_prompt
 
@@ -152,7 +153,9 @@ def run_bench(set_path: str | None = None, items: int = 24, model: str | None = 
         project = Project(tmp / "bench.hone")
         project.import_set(source)
         _, qset = project.current_set()
-        chosen = qset.items[:items]
+        # by default what a user grades: the tuning items (model load weighs on a short run)
+        chosen = (list(select_items(qset, "tuning")) if items is None
+                  else list(qset.items[:items]))
         draft = project.draft()
         wording = Wording(draft.text or "Answer briefly.", "system")
         check = project.check()
