@@ -76,7 +76,12 @@ def test_cost_means_and_totals_by_hand():
     d = cost.as_dict()
     assert d["total_prompt_tokens"] == 330 and d["total_answer_tokens"] == 12
     assert d["total_seconds"] == pytest.approx(0.8) and d["wall_seconds"] == 1.25
-    assert "110 prompt + 4.0 answer tokens, 0.40 s per item (n=3)" == cost.text()
+    # two of three answers came from the cache, so no clock time per item is claimed
+    assert "110 prompt + 4.0 answer tokens, each item waited 0.40 s (n=3)" == cost.text()
+    fresh = cost_of([(100, 4, 0.5, False), (120, 6, 0.3, False)], wall_seconds=0.5)
+    assert fresh.clock_seconds == pytest.approx(0.25)  # 0.5 s on the clock / 2 items
+    assert fresh.text() == ("110 prompt + 5.0 answer tokens, each item waited 0.40 s "
+                            "(0.25 s per item on the clock) (n=2)")
     empty = cost_of([])
     assert empty.mean_tokens is None and empty.mean_seconds is None
     assert empty.text() == "no items graded"
@@ -99,7 +104,8 @@ def test_a_cached_regrade_costs_what_the_first_answers_cost(project):
     assert b.mean_seconds == pytest.approx(a.mean_seconds) and a.mean_seconds > 0
     assert b.mean_prompt_tokens > 0
     # the same function over the marks in memory gives the same numbers
-    assert marks_cost(first.marks).as_dict() == {**a.as_dict(), "wall_seconds": None}
+    assert marks_cost(first.marks).as_dict() == {**a.as_dict(), "wall_seconds": None,
+                                                 "clock_seconds_per_item": None}
 
 
 # -- the shelf, the points and the report ---------------------------------------------------

@@ -25,7 +25,7 @@ from .records import Mark
 from .stats import Score
 
 MEASURES = {"tokens": "mean prompt + answer tokens per item",
-            "seconds": "mean seconds per item"}
+            "seconds": "mean seconds each item waited for its answer"}
 SECONDS_CAUTION = ("Seconds depend on the machine, its load and how many items were decoded "
                    "together; tokens do not, so compare wordings by tokens first.")
 
@@ -68,14 +68,25 @@ class RunCost:
                              f"{', '.join(MEASURES)}")
         return self.mean_tokens if name == "tokens" else self.mean_seconds
 
+    @property
+    def clock_seconds(self) -> float | None:
+        """Seconds per item on the clock (the run's wall time over its items), when the model
+        answered every item; items decoded together overlap, so this is below the wait."""
+        if not self.items or self.from_cache or not self.wall_seconds:
+            return None
+        return self.wall_seconds / self.items
+
     def text(self) -> str:
-        """"412 prompt + 7.0 answer tokens, 0.38 s per item (n=40)"."""
+        """"412 prompt + 7.0 answer tokens, each item waited 0.38 s (0.09 s per item on the
+        clock) (n=40)"."""
         if not self.items:
             return "no items graded"
         seconds = ("seconds not measured" if self.mean_seconds is None
-                   else f"{self.mean_seconds:.2f} s")
+                   else f"each item waited {self.mean_seconds:.2f} s")
+        if self.clock_seconds is not None:
+            seconds += f" ({self.clock_seconds:.2f} s per item on the clock)"
         return (f"{self.mean_prompt_tokens:.0f} prompt + {self.mean_answer_tokens:.1f} answer "
-                f"tokens, {seconds} per item (n={self.items})")
+                f"tokens, {seconds} (n={self.items})")
 
     def as_dict(self) -> dict:
         def r(x, places):
@@ -89,7 +100,8 @@ class RunCost:
                 "total_prompt_tokens": self.total_prompt_tokens,
                 "total_answer_tokens": self.total_answer_tokens,
                 "total_seconds": round(self.total_seconds, 3),
-                "wall_seconds": r(self.wall_seconds, 3)}
+                "wall_seconds": r(self.wall_seconds, 3),
+                "clock_seconds_per_item": r(self.clock_seconds, 4)}
 
 
 def cost_of(values: Iterable[tuple[int, int, float, bool]],

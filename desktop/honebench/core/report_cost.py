@@ -18,7 +18,7 @@ def tradeoff_table(points: Sequence[CostPoint]) -> str:
     """One row per version, cheapest first: score, tokens, seconds and the front."""
     head = ("<tr><th>version</th><th>decision</th><th>tuning score (95% interval, n)</th>"
             "<th>prompt tokens per item</th><th>answer tokens per item</th>"
-            "<th>tokens per item</th><th>seconds per item (items timed)</th>"
+            "<th>tokens per item</th><th>seconds each item waited (items timed)</th>"
             "<th>Pareto front</th></tr>")
     body = []
     for p in sorted(points, key=lambda p: (p.cost_value, -p.score.rate, p.label)):

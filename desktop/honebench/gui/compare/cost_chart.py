@@ -23,7 +23,7 @@ from .chart_marks import mark_style, paint_axes, split_colour
 DECISIONS = (("kept", "kept"), ("set_aside", "set aside"), ("", "not decided"))
 EMPTY_TEXT = ("No version has both a tuning score and a measured cost yet: grade a wording "
               "on the tuning items to place it here.")
-MEASURE_WORDS = (("tokens", "tokens per item"), ("seconds", "seconds per item"))
+MEASURE_WORDS = (("tokens", "tokens per item"), ("seconds", "seconds each item waited"))
 
 
 class CostChart(QWidget):

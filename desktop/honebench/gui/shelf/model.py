@@ -17,7 +17,7 @@ from ...core.wording import PLACEMENT_LABELS
 
 EMPTY_TEXT = ("Nothing on the shelf yet. Grade a wording, then press Keep (Ctrl+K) to put it "
               "here as v1.")
-COLUMNS = ("version", "tuning", "held-out", "prompt", "answer", "s/item", "origin",
+COLUMNS = ("version", "tuning", "held-out", "prompt", "answer", "wait s", "origin",
            "placement", "saved")
 (VERSION, TUNING, HELD_OUT, PROMPT_TOKENS, ANSWER_TOKENS, SECONDS, ORIGIN, PLACEMENT,
  SAVED) = range(len(COLUMNS))
@@ -29,8 +29,10 @@ HEADER_TIPS = {
     PROMPT_TOKENS: "mean prompt tokens per item, on the run behind the tuning score",
     ANSWER_TOKENS: "mean answer tokens per item, on the run behind the tuning score (0 when "
                    "the labels were scored rather than generated)",
-    SECONDS: "mean seconds per item, on the run behind the tuning score; seconds depend on "
-             "the machine and its load, tokens do not",
+    SECONDS: "mean seconds each item waited for its answer, on the run behind the tuning "
+             "score; items decoded together wait together, so this is more than the run's "
+             "time per item on the clock; seconds depend on the machine and its load, "
+             "tokens do not",
     PLACEMENT: "where the wording goes in the prompt",
     ORIGIN: "typed by you, or the strategy that suggested it",
     SAVED: "when it was put on the shelf",
