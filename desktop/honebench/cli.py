@@ -239,7 +239,7 @@ def preflight_engine(args) -> None:
 
 def _gui(args) -> int:
     try:
-        from .gui.app import run_app
+        from .gui.launch import run_app
     except ImportError as exc:
         print(f"honebench: the desktop window is not available here ({exc}). "
               "Use `honebench grade SET --wording ...` meanwhile; `honebench --help` lists "

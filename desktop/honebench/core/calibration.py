@@ -53,3 +53,13 @@ def calibrate_result(result: Result, labels: Sequence[str], prior: Sequence[floa
     share = calibrated_shares(result.label_logprobs, prior)
     best = max(range(len(share)), key=lambda i: (share[i], -i))
     return replace(result, text=labels[best], label_shares=tuple(share))
+
+
+def params_with_prior(params: dict, labels: Sequence[str], prior) -> dict:
+    """Run params plus, for a calibrated run, the label prior it divided by (so the run
+    record says what its scores were divided by)."""
+    if not params.get("calibrate"):
+        return params
+    noted = {"content_free": list(CONTENT_FREE)}
+    noted["label_prior"] = dict(zip(labels, prior)) if prior is not None else None
+    return {**params, **noted}

@@ -22,7 +22,8 @@ from dataclasses import dataclass, replace
 from typing import Callable, Sequence
 
 from .answer_stops import stop_rule
-from .calibration import CONTENT_FREE, average_prior, calibrate_result, content_free_fields
+from .calibration import (CONTENT_FREE, average_prior, calibrate_result, content_free_fields,
+                          params_with_prior)
 from .check_fit import check_fits_set
 from .checks import CheckSpec, judge
 from .engines.base import Engine, Params, Request, Result
@@ -144,7 +145,7 @@ class Grader:
         runs = [_Run(self.store.start_run(
             set_id=set_id, wording_text=p.wording.text, placement=p.wording.placement,
             split=p.split, fingerprint=fingerprint,
-            params=_with_prior(params.as_dict(), check.labels, prior),
+            params=params_with_prior(params.as_dict(), check.labels, prior),
             check=check.as_dict(), n_items=len(p.items), wording_id=p.wording_id,
             purpose=p.purpose or purpose), p)
             for p, prior in zip(plans, priors)]
@@ -282,15 +283,6 @@ class Grader:
             params=repr(params.as_dict()), prompt=prompt, text=result.text,
             prompt_tokens=result.prompt_tokens, completion_tokens=result.completion_tokens,
             seconds=result.seconds, finish_reason=result.finish_reason, label_scores=scores)
-
-
-def _with_prior(params: dict, labels: Sequence[str], prior) -> dict:
-    """Run params plus, for a calibrated run, the label prior it divided by."""
-    if not params.get("calibrate"):
-        return params
-    noted = {"content_free": list(CONTENT_FREE)}
-    noted["label_prior"] = dict(zip(labels, prior)) if prior is not None else None
-    return {**params, **noted}
 
 
 def _cached_result(item_id: str, hit) -> Result:

@@ -4,7 +4,8 @@ computes.
 Where things are:
 
     app.py        composition: builds every feature, docks it, adds its actions, connects
-                  features by signals; run_app() and the tests compose in the same order
+                  features by signals; launch.run_app() and the tests compose in the same
+                  order
     window.py     the frame: set_central, add_dock, add_action(menu key, action), toolbars,
                   status, problems, closing (cancel, join, close the engine)
     jobs.py       the one background-job mechanism: results on the GUI thread, cancel, the

@@ -4,19 +4,18 @@
 needs, docks it, adds its actions and connects features to each other through signals.
 Features never reach into each other; they hear of project changes through the job
 runner's ``project_changed`` and of an opened project through the session's ``opened``.
-``run_app`` composes in the same order as the tests do.
+Starting the window (``run_app``) is in launch.py; it composes in the same order as the
+tests do.
 """
 from __future__ import annotations
 
 import os
 import sys
-from pathlib import Path
 
 from PySide6.QtCore import QSettings, Qt, QTimer
 from PySide6.QtGui import QKeySequence
-from PySide6.QtWidgets import QApplication, QSplitter, QStyle
+from PySide6.QtWidgets import QSplitter, QStyle
 
-from ..core.project import default_project_path, projects_dir
 from ..core.store import PROJECT_SUFFIX
 from .actions import make_action
 from .compare.control import CompareControl
@@ -34,7 +33,6 @@ from .project.exports import ExportControl
 from .project.import_flow import ImportFlow, is_question_set
 from .project.session import ProjectSession
 from .project.state import interrupted_text
-from ..core.project import DEMO_NAME
 from .shelf.control import ShelfControl
 from .shelf.importance import ImportanceControl
 from .shelf.model import ShelfModel
@@ -44,7 +42,6 @@ from .tour import GuidedTour, show_about
 from .transfer import control as transfer_control
 from .window import SIZE, MainWindow
 
-ORG = APP = "honebench"
 
 
 class App:
@@ -346,53 +343,6 @@ def compose(runner: JobRunner, settings: QSettings, *, engine_factory=open_engin
     app = App(runner, settings, engine_factory=engine_factory, quiet=quiet)
     app.grading.limit = grade_limit()
     return app
-
-
-def application() -> QApplication:
-    qapp = QApplication.instance() or QApplication(sys.argv[:1])
-    qapp.setOrganizationName(ORG)
-    qapp.setApplicationName(APP)
-    qapp.setApplicationDisplayName("honebench")
-    return qapp
-
-
-def open_source(app: App, settings: QSettings, source: str | os.PathLike | None):
-    """Open what was asked for: a project, a question set, the last project or the demo."""
-    session = app.session
-    if source:
-        path = Path(source)
-        if path.suffix == PROJECT_SUFFIX:
-            if not path.exists():
-                raise FileNotFoundError(f"project file {path} does not exist; check the path "
-                                        "or open the question set itself")
-            return session.open_project(path)
-        if not path.exists():
-            raise FileNotFoundError(f"question set {path} does not exist; check the path")
-        return session.open_project(default_project_path(path), then_import=str(path.resolve()))
-    last = settings.value("last_project")
-    if last and Path(str(last)).exists():
-        return session.open_project(str(last))
-    return session.open_project(projects_dir() / DEMO_NAME, demo=True)
-
-
-def run_app(source=None, snapshot: Path | None = None, grade: bool = False) -> int:
-    """Run the window; with ``snapshot`` save a picture of it and return instead."""
-    from .snapshot import take_snapshot
-
-    qapp = application()
-    settings = QSettings()
-    app = compose(JobRunner(), settings, quiet=snapshot is not None)
-    try:
-        open_source(app, settings, source)
-    except FileNotFoundError as exc:
-        print(f"honebench: {exc}", file=sys.stderr)
-        app.window.close()
-        return 2
-    if snapshot is None:
-        app.window.show()
-        return qapp.exec()
-    expect_set = bool(source) and Path(source).suffix != PROJECT_SUFFIX
-    return take_snapshot(app, Path(snapshot), grade, expect_set)
 
 
 def grade_limit() -> int | None:
