@@ -11,7 +11,7 @@ from html import escape
 from math import ceil, floor, log10
 from typing import Sequence
 
-from .chart_svg import SHAPE_NAMES, SHAPES, _f, _marker, percent_axis, svg_start
+from .chart_svg import SHAPES, _f, _marker, percent_axis, shape_legend, svg_start
 from .cost import MEASURES, CostPoint, front_of, front_steps
 
 POINT = "#2b7bb9"
@@ -103,10 +103,6 @@ def _legend(x: float) -> list[str]:
            f'<circle cx="{_f(x + 13)}" cy="{y}" r="7" fill="none" stroke="{FRONT}" '
            'stroke-width="2"/>',
            f'<text x="{_f(x + 32)}" y="{y + 4}" fill="currentColor">Pareto front</text>']
-    x += 40 + 7.0 * len("Pareto front") + 8
-    for shape, name in SHAPE_NAMES:
-        out.append(_marker(shape, x + 5, y, "currentColor"))
-        out.append(f'<text x="{_f(x + 15)}" y="{y + 4}" fill="currentColor">{name}</text>')
-        x += 28 + 7.0 * len(name)
+    out += shape_legend(x + 40 + 7.0 * len("Pareto front") + 8, y)
     out.append("</g>")
     return out

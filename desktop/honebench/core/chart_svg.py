@@ -169,10 +169,16 @@ def _legend(x0: float) -> list[str]:
                    f'stroke-width="2"{dash_attr}/>')
         out.append(f'<text x="{_f(x + 32)}" y="{y + 4}" fill="currentColor">{name}</text>')
         x += 40 + 7.0 * len(name)
-    x += 8
+    out += shape_legend(x + 8, y)
+    out.append("</g>")
+    return out
+
+
+def shape_legend(x: float, y: float) -> list[str]:
+    """The marker shapes (decisions) and their names in a row from ``x``."""
+    out = []
     for shape, name in SHAPE_NAMES:
         out.append(_marker(shape, x + 5, y, "currentColor"))
         out.append(f'<text x="{_f(x + 15)}" y="{y + 4}" fill="currentColor">{name}</text>')
         x += 28 + 7.0 * len(name)
-    out.append("</g>")
     return out

@@ -12,7 +12,8 @@ from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QGridLayout, QHBoxL
                                QSplitter, QTableWidget, QTableWidgetItem, QToolButton,
                                QVBoxLayout, QWidget)
 
-from ...core.events import Stage, progress_text
+from ...core.events import Stage
+from ..stage_display import show_stage
 from ...core.hone import HoneBudget, HoneOutcome, HoneRound
 from ...core.stats import Score
 from ...core.suggest.strategies import STRATEGIES, STRATEGY_LABELS
@@ -263,15 +264,7 @@ class HonePanel(QWidget):
         elif isinstance(event, Stage):
             n = len(self.rounds) + 1
             where = f"Round {n} of {self.rounds_spin.value()}: {event.text}"
-            p = event.progress
-            if p is None:
-                self.progress.setRange(0, 0)
-                self.stage.setText(where)
-                return
-            self.progress.setRange(0, max(p.total, 1))
-            self.progress.setValue(min(p.done, max(p.total, 1)))
-            self.progress.setFormat(f"{p.done}/{p.total}")
-            self.stage.setText(f"{where}: {progress_text(p)}")
+            show_stage(self.progress, self.stage, where, event.progress)
 
     def _add_row(self, name: str, best: Score, kept: str, held: Score | None) -> None:
         row = self.table.rowCount()

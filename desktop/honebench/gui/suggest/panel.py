@@ -11,7 +11,8 @@ from PySide6.QtWidgets import (QCheckBox, QComboBox, QFormLayout, QHBoxLayout, Q
                                QProgressBar, QPushButton, QSpinBox, QVBoxLayout, QWidget)
 
 from ...core.project import ShelfRow
-from ...core.events import Stage, progress_text
+from ...core.events import Stage
+from ..stage_display import show_stage
 from ...core.suggest.pipeline import EARLY_RULE, SuggestOutcome
 from ...core.suggest.strategies import STRATEGIES, STRATEGY_LABELS
 from ...core.wording import Wording
@@ -272,16 +273,8 @@ class SuggestPanel(CardList, QWidget):
             return
         if not isinstance(event, Stage):
             return
-        text = event.text[0].upper() + event.text[1:]
-        p = event.progress
-        if p is None:
-            self.progress.setRange(0, 0)
-            self.stage.setText(text)
-            return
-        self.progress.setRange(0, max(p.total, 1))
-        self.progress.setValue(min(p.done, max(p.total, 1)))
-        self.progress.setFormat(f"{p.done}/{p.total}")
-        self.stage.setText(f"{text}: {progress_text(p)}")
+        show_stage(self.progress, self.stage, event.text[0].upper() + event.text[1:],
+                   event.progress)
 
     def _finished(self, outcome: SuggestOutcome | None, source: str) -> None:
         self.job = None
